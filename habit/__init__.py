@@ -1,0 +1,31 @@
+"""habit: crystal shapes with every face indexed.
+
+The names most users need are imported here; everything else is reached through its
+module (``habit.symmetry``, ``habit.miller``, ...). Heavy modules are loaded on first use.
+"""
+
+from __future__ import annotations
+
+import importlib
+from typing import Any
+
+__version__ = "0.1.0"
+
+# public name -> module that defines it; loaded lazily so `import habit` stays fast.
+_PUBLIC: dict[str, str] = {
+    "HabitError": "habit.errors",
+    "Tolerances": "habit.tolerances",
+}
+
+__all__ = sorted(_PUBLIC)
+
+
+def __getattr__(name: str) -> Any:
+    module = _PUBLIC.get(name)
+    if module is None:
+        raise AttributeError(f"module 'habit' has no attribute {name!r}")
+    return getattr(importlib.import_module(module), name)
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))

@@ -1,0 +1,5 @@
+"""Allow ``python -m habit``."""
+
+from habit.cli import main
+
+main()
