@@ -290,6 +290,24 @@ class FirstShells:
     vectors: FloatArray
 
 
+def _reduced(lattice: FloatArray, frac: FloatArray) -> tuple[FloatArray, FloatArray]:
+    """Describe the same crystal in an LLL-reduced cell; atoms are unchanged.
+
+    Short, nearly orthogonal cell vectors keep the enumeration boxes small whatever cell
+    the user chose (pymatgen's lattice reduction).
+    """
+    from pymatgen.core import Lattice
+
+    red = Lattice(lattice)
+    mapping = np.rint(np.asarray(red.lll_mapping, dtype=float))  # lll = mapping @ lattice
+    lat_r = mapping @ lattice
+    if not np.allclose(lat_r, red.lll_matrix, atol=1e-8 * np.abs(lattice).max()):
+        mapping = np.eye(3)  # pragma: no cover - defensive: keep the given cell
+        lat_r = lattice
+    frac_r = frac @ np.linalg.inv(mapping)
+    return lat_r, frac_r - np.floor(frac_r + 1e-12)  # wrapped: each site's own cell
+
+
 def _translations_within(lattice: FloatArray, radius: float) -> IntArray:
     """Integer translations (T, 3) covering every lattice vector within ``radius`` Å."""
     recip = np.linalg.inv(lattice).T  # rows a*, b*, c* (no 2 pi)
@@ -321,8 +339,9 @@ def first_shells(
     >>> int(first_shells(lat, [[0, 0, 0]]).coordination[0])
     12
     """
-    lat = np.asarray(lattice, dtype=float)
-    frac = np.atleast_2d(np.asarray(frac_coords, dtype=float))
+    lat, frac = _reduced(
+        np.asarray(lattice, dtype=float), np.atleast_2d(np.asarray(frac_coords, dtype=float))
+    )
     if not 0.0 < shell_width < 1.0:
         raise InputError(f"shell_width must lie between 0 and 1, got {shell_width}.")
     cart = frac @ lat  # (S, 3)
@@ -410,8 +429,9 @@ def carve(
     frac = np.atleast_2d(np.asarray(frac_coords, dtype=float))
     n, d = _check_planes(normals, distances)
     eps = _eps(d, on_face_tol)
-    c = np.asarray(centre, dtype=float).reshape(3)
-    u = frac - c  # (S, 3) site offsets from the centre, fractional
+    c_cart = np.asarray(centre, dtype=float).reshape(3) @ lat
+    lat, frac = _reduced(lat, frac)
+    u = frac - c_cart @ np.linalg.inv(lat)  # (S, 3) site offsets from the centre, fractional
     recip = np.linalg.inv(lat).T  # rows a*, b*, c*
     hi = _extent(n, d + 2 * eps, recip)  # max of fractional coordinate j over the shape
     lo = -_extent(n, d + 2 * eps, -recip)
@@ -656,21 +676,21 @@ def _wyckoff_points(
     delta = image - grid[:, None, :]
     fixed = np.all(np.abs(delta - np.round(delta)) < 1e-6, axis=2)  # (P, G)
     wmi = rot - np.eye(3)  # (G, 3, 3)
-    gram = np.einsum("pg,gki,gkj->pij", fixed.astype(float), wmi, wmi)  # (P, 3, 3)
+    quad = np.einsum("gki,gkj->gij", wmi, wmi).reshape(len(rot), 9)  # (G, 9)
+    gram = (fixed.astype(float) @ quad).reshape(-1, 3, 3)  # (P, 3, 3)
     isolated = np.abs(np.linalg.det(gram)) > 1e-6
     conv_volume = abs(np.linalg.det(np.asarray(data.std_lattice)))
     ratio = conv_volume / abs(np.linalg.det(lattice))
     out: dict[str, FloatArray] = {}
-    seen: list[FloatArray] = []
-    cart_tol = 1e-4
+    seen: set[tuple[int, ...]] = set()
     for p in grid[isolated]:  # a few dozen special points at most
-        if any(_same_point(lattice, p, q, cart_tol) for q in seen):
+        if _key(p) in seen:
             continue
         orbit = rot @ p + tra  # (G, 3)
-        orbit -= np.floor(orbit + 1e-9)
-        orbit = orbit[_unique_points(lattice, orbit, cart_tol)]
-        seen.extend(orbit)
-        on_atom = [i for i in range(len(frac)) if _same_point(lattice, p, frac[i], cart_tol)]
+        keys = {_key(q) for q in orbit}
+        seen |= keys
+        orbit = np.array(sorted(keys), dtype=float) / _GRID_KEY
+        on_atom = [i for i in range(len(frac)) if _key(frac[i]) in keys]
         if on_atom:
             letter = str(data.wyckoffs[on_atom[0]])
         else:
@@ -688,18 +708,13 @@ def _wyckoff_points(
     return out
 
 
-def _same_point(lattice: FloatArray, p: FloatArray, q: FloatArray, tol: float) -> bool:
-    diff = p - q
-    diff -= np.round(diff)
-    return bool(np.linalg.norm(diff @ lattice) < tol)
+_GRID_KEY = 240000  # fractional coordinates compared in steps of 1/240000
 
 
-def _unique_points(lattice: FloatArray, pts: FloatArray, tol: float) -> list[int]:
-    keep: list[int] = []
-    for i, p in enumerate(pts):
-        if not any(_same_point(lattice, p, pts[j], tol) for j in keep):
-            keep.append(i)
-    return keep
+def _key(p: Any) -> tuple[int, ...]:
+    """Hashable key of a fractional point modulo the lattice."""
+    k = np.rint(np.asarray(p, dtype=float) * _GRID_KEY).astype(np.int64) % _GRID_KEY
+    return tuple(int(x) for x in k)
 
 
 def resolve_centre(
