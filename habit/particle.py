@@ -670,14 +670,21 @@ def _wyckoff_points(
         raise InputError("spglib could not find the symmetry of the structure.")
     rot = np.asarray(data.rotations, dtype=float)  # (G, 3, 3)
     tra = np.asarray(data.translations, dtype=float)  # (G, 3)
-    g = np.arange(denominator) / denominator
-    grid = np.stack(np.meshgrid(g, g, g, indexing="ij"), axis=-1).reshape(-1, 3)  # (P, 3)
-    image = np.einsum("gij,pj->pgi", rot, grid) + tra[None]  # (P, G, 3)
-    delta = image - grid[:, None, :]
-    fixed = np.all(np.abs(delta - np.round(delta)) < 1e-6, axis=2)  # (P, G)
-    wmi = rot - np.eye(3)  # (G, 3, 3)
-    quad = np.einsum("gki,gkj->gij", wmi, wmi).reshape(len(rot), 9)  # (G, 9)
-    gram = (fixed.astype(float) @ quad).reshape(-1, 3, 3)  # (P, 3, 3)
+    steps = np.arange(denominator)
+    ticks = np.stack(np.meshgrid(steps, steps, steps, indexing="ij"), axis=-1).reshape(-1, 3)
+    grid = ticks / denominator  # (P, 3) candidate points
+    shift = tra * denominator  # translations in grid steps
+    exact = np.allclose(shift, np.rint(shift), atol=1e-6)
+    gram = np.zeros((len(grid), 3, 3))  # (P, 3, 3): sum of (W-I)^T (W-I) over fixing ops
+    for w_rot, w_shift in zip(rot, shift, strict=True):  # one pass per operation
+        if exact:
+            moved = ticks @ w_rot.astype(np.int64).T + np.rint(w_shift).astype(np.int64)
+            fixes = np.all((moved - ticks) % denominator == 0, axis=1)  # (P,)
+        else:  # pragma: no cover - translations off the grid: compare as floats
+            delta = (ticks @ w_rot.T + w_shift - ticks) / denominator
+            fixes = np.all(np.abs(delta - np.rint(delta)) < 1e-6, axis=1)
+        wmi = w_rot - np.eye(3)
+        gram[fixes] += wmi.T @ wmi
     isolated = np.abs(np.linalg.det(gram)) > 1e-6
     conv_volume = abs(np.linalg.det(np.asarray(data.std_lattice)))
     ratio = conv_volume / abs(np.linalg.det(lattice))
