@@ -148,8 +148,9 @@ CITED: dict[str, dict] = {
         number=186,
         cell=(3.24992, 3.24992, 5.20658, 90, 90, 120),
         cell_source="Kisi & Elcombe 1989, Acta Cryst. C45, 1867 (from memory)",
-        density=_pm(5.68, 0.005),
-        density_source="zincite calculated density 5.68 (Handbook of Mineralogy, from memory)",
+        # the range is printed to two decimals, so 5.685 still rounds to its upper end 5.68
+        density=(5.64, 5.685),
+        density_source="Handbook of Mineralogy, zincite, specific gravity range 5.64-5.68",
     ),
     "forsterite": dict(
         formula="Mg2SiO4",
