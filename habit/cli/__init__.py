@@ -21,6 +21,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "angles": ("habit.cli.angles", "Interfacial angles between faces (degrees and minutes)."),
     "crystal": ("habit.cli.crystal", "Describe a crystal; show its conventional setting."),
     "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
+    "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
 }
 
 
