@@ -22,6 +22,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "crystal": ("habit.cli.crystal", "Describe a crystal; show its conventional setting."),
     "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
     "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
+    "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
 }
 
 
