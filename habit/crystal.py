@@ -614,17 +614,29 @@ def _read_cif_structure(path: Path) -> Any:
 
 def _cif_source(path: Path) -> str:
     """A one-line citation from the CIF's publication fields, if any."""
-    keys = ("_publ_author_name", "_journal_name_full", "_journal_year", "_journal_volume")
-    found: dict[str, str] = {}
+    from pymatgen.io.cif import CifFile
+
     try:
-        lines = path.read_text(errors="replace").splitlines()
-    except OSError:
+        blocks = CifFile.from_file(str(path)).data
+    except Exception:  # a file pymatgen read once already; be lenient here
         return ""
-    for line in lines:
-        parts = line.strip().split(None, 1)
-        if len(parts) == 2 and parts[0] in keys and parts[0] not in found:
-            found[parts[0]] = parts[1].strip().strip("'\"")
-    return ", ".join(found[k] for k in keys if k in found)
+    if not blocks:
+        return ""
+    data = next(iter(blocks.values())).data
+
+    def field(key: str) -> str:
+        value = data.get(key)
+        if isinstance(value, list):
+            return "; ".join(str(v).strip() for v in value)
+        return "" if value is None else " ".join(str(value).split())
+
+    authors = field("_publ_author_name")
+    journal = field("_journal_name_full")
+    year = field("_journal_year")
+    volume = field("_journal_volume")
+    page = field("_journal_page_first")
+    parts = [p for p in (authors, f"({year})" if year else "", journal, volume, page) if p]
+    return " ".join(parts[:2]) + (", " + ", ".join(parts[2:]) if parts[2:] else "")
 
 
 # ---------------------------------------------------------------------- files and names
