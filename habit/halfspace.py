@@ -216,7 +216,7 @@ def _cross(a: FloatArray, b: FloatArray) -> FloatArray:
 
 
 def _merge_labels(close: BoolArray, neighbors: IntArray) -> IntArray:
-    """Connected components of simplices joined through ``close`` neighbour links."""
+    """Label the connected groups of simplices joined through ``close`` neighbour links."""
     s = close.shape[0]
     lab = np.arange(s)
     big = s

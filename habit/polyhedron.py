@@ -25,7 +25,7 @@ from typing import Any, Literal, NamedTuple
 import numpy as np
 from numpy.typing import ArrayLike
 
-from habit._typing import FloatArray, IntArray
+from habit._typing import BoolArray, FloatArray, IntArray
 from habit.errors import EmptyPolyhedronError, InputError
 from habit.halfspace import intersect_halfspaces
 from habit.tolerances import Tolerances
@@ -89,9 +89,7 @@ def _prev_in_loop(face_offsets: IntArray) -> IntArray:
     return prv
 
 
-def edges_from_loops(
-    face_vertices: IntArray, face_offsets: IntArray
-) -> tuple[IntArray, IntArray]:
+def edges_from_loops(face_vertices: IntArray, face_offsets: IntArray) -> tuple[IntArray, IntArray]:
     """Undirected edges of a closed polyhedral surface and the two faces at each.
 
     Parameters
@@ -314,8 +312,7 @@ class Polyhedron:
             f = np.asarray(form_ids)
             if f.shape != (nplanes,) or (f < 0).any():
                 raise InputError(
-                    f"form_ids must be {nplanes} integers >= 0, one per plane; got shape "
-                    f"{f.shape}."
+                    f"form_ids must be {nplanes} integers >= 0, one per plane; got shape {f.shape}."
                 )
             fid = f[pid]
         labels = None
@@ -453,7 +450,7 @@ class Polyhedron:
         return np.diff(self.face_offsets)
 
     @property
-    def present(self) -> IntArray:
+    def present(self) -> BoolArray:
         """For a polyhedron built from planes: (N,) bool, True where plane i is a face."""
         mask = np.zeros(self.n_planes, dtype=bool)
         if self.plane_ids is not None:
@@ -508,14 +505,14 @@ class Polyhedron:
     @property
     def n_forms(self) -> int:
         """Number of form ids (max id + 1)."""
-        assert self.form_ids is not None
-        return int(self.form_ids.max()) + 1 if self.form_ids.size else 0
+        fid = np.asarray(self.form_ids)
+        return int(fid.max()) + 1 if fid.size else 0
 
     @property
     def area_by_form(self) -> FloatArray:
         """Area of each form (indexed by form id), Å², (n_forms,)."""
-        assert self.form_ids is not None
-        return np.bincount(self.form_ids, self.face_areas, minlength=self.n_forms)
+        fid = np.asarray(self.form_ids)
+        return np.bincount(fid, self.face_areas, minlength=self.n_forms)
 
     @property
     def area_fractions_by_form(self) -> FloatArray:
@@ -614,7 +611,7 @@ class Polyhedron:
         return np.asarray(out / tot[:, None], dtype=np.float64)
 
     def metrics(self) -> dict[str, float | int]:
-        """The scalar metrics as a dict whose keys carry their units."""
+        """Return the scalar metrics as a dict whose keys carry their units."""
         return {
             "volume_A3": self.volume,
             "surface_area_A2": self.area,
@@ -645,7 +642,9 @@ class Polyhedron:
         t = np.asarray(shift, dtype=np.float64)
         if t.shape != (3,) or not np.isfinite(t).all():
             raise InputError(f"shift must be 3 finite numbers; got {t!r}.")
-        return self._replace(vertices=self.vertices + t, distances=self.distances + self.normals @ t)
+        return self._replace(
+            vertices=self.vertices + t, distances=self.distances + self.normals @ t
+        )
 
     def rotated(self, rotation: ArrayLike) -> Polyhedron:
         """Return a copy transformed by an orthogonal matrix about the origin.
@@ -754,7 +753,6 @@ class Polyhedron:
         # renumber dual vertices so that dual vertex i comes from original face i
         inv = np.empty_like(match)
         inv[match] = np.arange(match.size)
-        assert dual0.plane_ids is not None
         dual = Polyhedron(
             vertices=expected + c,
             face_vertices=inv[dual0.face_vertices],
@@ -765,7 +763,7 @@ class Polyhedron:
             vertex_hkl=self.hkl,
         )
         face_of_vertex = np.empty(self.n_vertices, dtype=np.int64)
-        face_of_vertex[dual0.plane_ids] = np.arange(dual0.n_faces)
+        face_of_vertex[np.asarray(dual0.plane_ids)] = np.arange(dual0.n_faces)
         return DualResult(
             polyhedron=dual,
             vertex_of_face=np.arange(self.n_faces),
