@@ -246,8 +246,9 @@ def intersect_halfspaces(
     tol : Tolerances, optional
         ``tol.length`` (relative to the circumradius) merges vertices closer than that:
         a face whose loop then has fewer than three distinct vertices has shrunk to an
-        edge or a point and is absent. ``tol.area`` (relative to the total area) drops
-        faces whose area is below it.
+        edge or a point and is absent. This is the only presence test, so the surface
+        stays closed: a face with edges longer than the tolerance is kept however small
+        its area.
 
     Returns
     -------
@@ -344,18 +345,6 @@ def intersect_halfspaces(
     # shoelace in the (r0, q) frame; both axes have length |r0|, so divide by |r0|^2
     scale_f = np.einsum("ij,ij->i", r0, r0)[plane_ids]
     areas = 0.5 * np.add.reduceat(x * y[nxt] - x[nxt] * y, starts) / scale_f
-
-    total = areas.sum()
-    small = areas <= tol.area * total
-    if small.any():
-        keep_face = ~small
-        entry_keep = np.repeat(keep_face, present_counts)
-        vert = vert[entry_keep]
-        present_counts = present_counts[keep_face]
-        offsets = np.zeros(present_counts.size + 1, dtype=np.int64)
-        np.cumsum(present_counts, out=offsets[1:])
-        areas = areas[keep_face]
-        plane_ids = plane_ids[keep_face]
 
     # --- drop vertices no face uses, renumber
     used = np.zeros(nvert, dtype=bool)

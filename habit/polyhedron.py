@@ -275,8 +275,8 @@ class Polyhedron:
         tol : Tolerances, optional
             Vertices closer than ``tol.length`` times the circumradius are merged; a
             face left with fewer than 3 distinct vertices has shrunk to an edge or a
-            point and is absent, as is a face whose area is below ``tol.area`` times
-            the total area.
+            point and is absent (not kept as a sliver). This is the only presence
+            test, so the surface always stays closed.
 
         Returns
         -------
