@@ -491,6 +491,17 @@ class Crystal:
         return self.system in ("hexagonal", "trigonal") and self.setting != "rhombohedral"
 
     @property
+    def cartesian_operations(self) -> FloatArray:
+        """The class's operations as Cartesian orthogonal matrices, (G, 3, 3).
+
+        ``R = A W A⁻¹`` with ``A`` the matrix whose columns are **a**, **b**, **c**.
+        """
+        a = self.lattice.T
+        ops = np.asarray(self.point_group.operations, dtype=float)
+        out: FloatArray = np.einsum("ij,gjk,kl->gil", a, ops, np.linalg.inv(a))
+        return out
+
+    @property
     def volume(self) -> float:
         """Cell volume, Å³."""
         return float(abs(np.linalg.det(self.lattice)))
