@@ -361,16 +361,16 @@ GRID = np.array(
 )  # (2196, 3): all |h|, |k|, |l| <= 6
 
 
-def _fcc_ok(h, k, l):
+def _fcc_ok(h, k, l):  # noqa: E741 (Miller index l)
     return (h + k) % 2 == 0 and (h + l) % 2 == 0 and (k + l) % 2 == 0
 
 
-def _fm3m_present(h, k, l):
+def _fm3m_present(h, k, l):  # noqa: E741 (Miller index l)
     # ITA Vol. A, No. 225 Fm-3m: hkl: h+k, h+l, k+l = 2n (no further general conditions).
     return _fcc_ok(h, k, l)
 
 
-def _fd3m_present(h, k, l):
+def _fd3m_present(h, k, l):  # noqa: E741 (Miller index l)
     # ITA Vol. A, No. 227 Fd-3m: hkl: h+k, h+l, k+l = 2n; 0kl: k+l = 4n with k, l = 2n;
     # hhl: h+l = 2n; h00: h = 4n (and permutations, Laue class m-3m).
     if not _fcc_ok(h, k, l):
@@ -384,7 +384,7 @@ def _fd3m_present(h, k, l):
     return True
 
 
-def _ia3d_present(h, k, l):
+def _ia3d_present(h, k, l):  # noqa: E741 (Miller index l)
     # ITA Vol. A, No. 230 Ia-3d: hkl: h+k+l = 2n; 0kl: k, l = 2n; hhl: 2h+l = 4n;
     # h00: h = 4n (and permutations / signs, Laue class m-3m).
     if (h + k + l) % 2:
@@ -401,7 +401,7 @@ def _ia3d_present(h, k, l):
     return True
 
 
-def _p21c_present(h, k, l):
+def _p21c_present(h, k, l):  # noqa: E741 (Miller index l)
     # ITA Vol. A, No. 14 P2_1/c (unique axis b, cell choice 1): h0l: l = 2n; 0k0: k = 2n;
     # 00l: l = 2n.
     if k == 0 and l % 2:
@@ -411,7 +411,7 @@ def _p21c_present(h, k, l):
     return True
 
 
-def _r3c_present(h, k, l):
+def _r3c_present(h, k, l):  # noqa: E741 (Miller index l)
     # ITA Vol. A, No. 167 R-3c, hexagonal axes (obverse): hkil: -h+k+l = 3n;
     # h-h0l: h+l = 3n, l = 2n; 000l: l = 6n. With i = -(h+k); h-h0l and its Laue (-3m1)
     # equivalents are the reflections with one of h, k, i zero.
@@ -483,7 +483,8 @@ def test_first_allowed_order_vectorised_and_errors():
 def test_import_does_not_load_heavy_libraries():
     code = (
         "import sys, habit.symmetry, habit.forms; "
-        "print(sorted(m for m in ('spglib', 'pymatgen', 'scipy', 'matplotlib') if m in sys.modules))"
+        "heavy = ('spglib', 'pymatgen', 'scipy', 'matplotlib'); "
+        "print(sorted(m for m in heavy if m in sys.modules))"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "[]"
