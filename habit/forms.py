@@ -85,7 +85,8 @@ def _cartesian(ops: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _unit(v: np.ndarray) -> np.ndarray:
-    return v / np.linalg.norm(v, axis=-1, keepdims=True)
+    out: np.ndarray = v / np.linalg.norm(v, axis=-1, keepdims=True)
+    return out
 
 
 def _equispaced(az: np.ndarray) -> bool:

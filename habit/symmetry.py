@@ -655,6 +655,8 @@ def _hall_table() -> tuple[dict[str, list[int]], dict[int, int], dict[int, Any]]
     types: dict[int, Any] = {}
     for hall in range(1, 531):
         t = spglib.get_spacegroup_type(hall)
+        if t is None:  # pragma: no cover - spglib's table covers 1..530
+            raise UnknownSymbolError(f"spglib has no Hall number {hall}.")
         types[hall] = t
         first.setdefault(t.number, hall)
         names = {t.international_short, t.international_full}
@@ -671,6 +673,8 @@ def _space_group_from_hall(hall: int) -> SpaceGroup:
     _, _, types = _hall_table()
     t = types[hall]
     sym = spglib.get_symmetry_from_database(hall)
+    if sym is None:  # pragma: no cover - spglib's table covers 1..530
+        raise UnknownSymbolError(f"spglib has no operations for Hall number {hall}.")
     rot = np.asarray(sym["rotations"], dtype=np.int64)
     trans = np.asarray(sym["translations"], dtype=np.float64) % 1.0
     pg = point_group_from_operations(rot)
@@ -797,7 +801,7 @@ def is_absent(
     hkl: ArrayLike,
     rotations: ArrayLike | SpaceGroup | str | int,
     translations: ArrayLike | None = None,
-) -> BoolArray:
+) -> bool | BoolArray:
     """Tell which reflections are systematically absent, from the operations alone.
 
     Parameters
@@ -835,8 +839,8 @@ def is_absent(
     fixed = np.all(moved == h[:, None, :], axis=-1)  # (N, n)
     phase = h @ trans.T  # (N, n)
     shifted = np.abs(phase - np.rint(phase)) > _ABS_TOL
-    absent = np.any(fixed & shifted, axis=1)  # (N,)
-    return absent[0] if single else absent
+    absent: BoolArray = np.any(fixed & shifted, axis=1)  # (N,)
+    return bool(absent[0]) if single else absent
 
 
 def first_allowed_order(
