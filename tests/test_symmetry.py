@@ -507,3 +507,54 @@ def test_public_names():
     assert set(symmetry.__all__) <= set(dir(symmetry)) | {"form_name", "is_closed_form"}
     assert symmetry.form_name([1, 0, 0], "m-3m") == "cube"
     assert isinstance(point_group("1"), PointGroup)
+
+
+# ---------------------------------------------------------------- absences: invariants
+@settings(max_examples=60, deadline=None)
+@given(st.integers(1, 230), st.integers(0, 2**32 - 1))
+def test_absences_invariant_under_laue_symmetry_and_origin_shift(number, seed):
+    # Closed-form facts (ITA Vol. A Section 2.2.13): systematic absences are the same for
+    # Laue-equivalent reflections, for h and -h (Friedel), and do not depend on the origin
+    # (an origin shift p changes w into w + (W - I) p). Exact, phase tolerance 1e-6.
+    rng = np.random.default_rng(seed)
+    sg = space_group(number)
+    hkl = rng.integers(-6, 7, size=(40, 3))
+    hkl = hkl[np.any(hkl != 0, axis=1)]
+    base = is_absent(hkl, sg)
+    assert np.array_equal(base, is_absent(-hkl, sg))
+    w = sg.point_group.operations[rng.integers(sg.point_group.order)]
+    assert np.array_equal(base, is_absent(hkl @ w, sg))
+    shift = rng.random(3)
+    moved = sg.translations + np.einsum("nij,j->ni", sg.rotations - np.eye(3), shift)
+    assert np.array_equal(base, is_absent(hkl, sg.rotations, moved))
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.integers(1, 230), st.integers(0, 2**32 - 1))
+def test_space_group_identified_after_basis_change(number, seed):
+    # spglib (reference library) must identify the type from operations written in a
+    # random unimodular basis; the point group is identified by habit. Exact.
+    sg = space_group(number)
+    p = _unimodular(np.random.default_rng(seed))
+    p_inv = np.linalg.inv(p)
+    rot = np.rint(p_inv @ sg.rotations @ p).astype(np.int64)
+    trans = sg.translations @ p_inv.T  # x' = P^-1 x, so w' = P^-1 w
+    moved = space_group_from_operations(rot, trans)
+    assert moved.number == number
+    assert moved.point_group.geometric_class == sg.point_group.geometric_class
+
+
+def test_absence_input_validation():
+    with pytest.raises(InvalidMillerIndexError):
+        is_absent([0.5, 1, 0], "Fm-3m")
+    with pytest.raises(InvalidMillerIndexError):
+        is_absent([[1, 0], [0, 1]], "Fm-3m")
+    sg = space_group("Fm-3m")
+    with pytest.raises(InputError, match="shape"):
+        is_absent([1, 0, 0], sg.rotations, sg.translations[:5])
+
+
+def test_point_group_accepts_numbers_typed_as_integers():
+    assert point_group(432).symbol == "432" and point_group(-1).symbol == "-1"
+    with pytest.raises(UnknownSymbolError):
+        point_group(5)
