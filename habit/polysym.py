@@ -162,6 +162,11 @@ def rotation_orders(operations: ArrayLike, *, atol: float = 1e-6) -> IntArray:
         For a proper operation the smallest k with R^k = I; for an improper one the
         order of the proper rotation ``-R``.
 
+    Raises
+    ------
+    InputError
+        A rotation angle is not a rational fraction of a turn with denominator <= 240.
+
     Examples
     --------
     >>> rotation_orders([np.eye(3), [[0, -1, 0], [1, 0, 0], [0, 0, 1]]]).tolist()
@@ -174,6 +179,8 @@ def rotation_orders(operations: ArrayLike, *, atol: float = 1e-6) -> IntArray:
     turns = np.arccos(np.clip((tr - 1.0) / 2.0, -1.0, 1.0)) / (2 * np.pi)  # (G,)
     ks = np.arange(1, 241)
     hit = np.abs(ks[None, :] * turns[:, None] - np.round(ks[None, :] * turns[:, None])) < atol * ks
+    if not hit.any(axis=1).all():
+        raise InputError("an operation is a rotation of infinite order; not a point group.")
     return np.asarray(ks[hit.argmax(axis=1)], dtype=np.int64)
 
 
@@ -196,7 +203,8 @@ def point_group_symbols(operations: ArrayLike, *, atol: float = 1e-6) -> tuple[s
     Raises
     ------
     InputError
-        The matrices do not form one of the finite point groups.
+        The matrices do not form one of the finite point groups (checked through the
+        rotation orders and the counts; full closure is assumed, not tested).
 
     Examples
     --------
