@@ -70,6 +70,8 @@ __all__ = [
     "scale_for_size",
     "achievable_counts",
     "make_particle",
+    "crystal_planes",
+    "resolve_centre",
     "particle_series",
     "format_extxyz",
     "write_extxyz",
@@ -955,9 +957,8 @@ class Particle:
             lab: int(np.count_nonzero((self.kind == 1) & (self.facet_form == f)))
             for f, lab in enumerate(self.form_labels)
         }
-        by_species = {
-            sp: int(n) for sp, n in zip(*np.unique(self.species, return_counts=True), strict=True)
-        }
+        names, counts = np.unique(self.species, return_counts=True)
+        by_species = {str(sp): int(k) for sp, k in zip(names, counts, strict=True)}
         return {
             "atoms": self.n_atoms,
             "atoms_by_species": by_species,
@@ -1247,6 +1248,102 @@ def particle_series(
         if progress is not None:
             progress(i + 1)
     return rows
+
+
+# --------------------------------------------------------------------------------------
+# from a Crystal (habit.crystal) and its forms
+# --------------------------------------------------------------------------------------
+
+
+def _form_items(crystal: Any, forms: Any) -> tuple[list[tuple[int, int, int]], list[float]]:
+    """One face per form and its value, from a mapping, FormValues, pairs or the crystal."""
+    if forms is None:
+        forms = crystal.forms
+        if forms is None:
+            raise InputError(
+                f"{crystal.name or 'the crystal'} has no forms; give forms and their values, "
+                "e.g. --form 111=1.95 --form 100=2.17."
+            )
+    if hasattr(forms, "hkl") and hasattr(forms, "values") and not isinstance(forms, Mapping):
+        pairs: Any = zip(forms.hkl, forms.values, strict=True)
+    else:
+        pairs = forms.items() if isinstance(forms, Mapping) else forms
+    hkls: list[tuple[int, int, int]] = []
+    values: list[float] = []
+    for key, value in pairs:
+        hkl = crystal.parse_face(key) if isinstance(key, str) else tuple(int(v) for v in key)
+        if len(hkl) != 3:
+            raise InputError(f"a form needs three Miller indices; got {key!r}.")
+        try:
+            v = float(value)
+        except (TypeError, ValueError):
+            raise InputError(
+                f"the value of form {key!r} must be a number; got {value!r}."
+            ) from None
+        if not (math.isfinite(v) and v > 0):
+            raise InputError(f"the value of form {key!r} must be positive; got {value!r}.")
+        hkls.append(hkl)  # type: ignore[arg-type]
+        values.append(v)
+    if not hkls:
+        raise InputError("give at least one form, e.g. --form 111=1.95.")
+    return hkls, values
+
+
+def crystal_planes(crystal: Any, forms: Any = None, *, shells: bool = False) -> dict[str, Any]:
+    """Planes of a crystal's forms, ready for :func:`make_particle`.
+
+    Every face of every form (expanded by the crystal class) gets a plane at a central
+    distance proportional to the form's value (energy, distance or rate: the Wulff
+    construction, G. Wulff 1901). With ``shells=True`` the values are not used and each
+    plane instead carries its form's first-allowed layer spacing
+    ``d_eff = d(hkl) / n``, n the first order not absent in the space group
+    (Donnay & Harker 1937).
+
+    Parameters
+    ----------
+    crystal : habit.crystal.Crystal
+        With atoms (``crystal.structure``).
+    forms : mapping, FormValues or None
+        Face -> value; default the crystal's own forms.
+    shells : bool
+        Return layer spacings for a closed-shell particle.
+
+    Returns
+    -------
+    dict
+        ``structure``, ``normals`` (N, 3), ``distances`` (N,) (None with ``shells``),
+        ``layer_spacings`` (N,) Å (only with ``shells``), ``hkl`` (N, 3), ``form_ids``
+        (N,), ``form_labels`` (F,): keyword arguments for :func:`make_particle`.
+    """
+    from habit.wulff import form_planes
+
+    if getattr(crystal, "structure", None) is None:
+        raise InputError(
+            f"{crystal.name or 'the crystal'} has no atoms; load it from a CIF (or a crystal "
+            "file that names one) to carve a particle."
+        )
+    hkls, values = _form_items(crystal, forms)
+    normals, distances, hkl_all, form_ids = form_planes(crystal, hkls, values)
+    # form_planes drops repeated forms: renumber the ids 0..F-1 in order of appearance
+    kept, form_ids = np.unique(form_ids, return_inverse=True)
+    labels = tuple(crystal.format_face(hkls[int(k)], "{}").replace(" ", "") for k in kept)
+    out: dict[str, Any] = {
+        "structure": crystal.structure,
+        "normals": normals,
+        "distances": distances,
+        "hkl": hkl_all,
+        "form_ids": form_ids.astype(np.int64),
+        "form_labels": labels,
+    }
+    if shells:
+        from habit.symmetry import first_allowed_order
+
+        if crystal.space_group is None:
+            raise InputError("shells need the space group of the crystal (load it from a CIF).")
+        orders = np.asarray(first_allowed_order(hkl_all, crystal.space_group))
+        out["layer_spacings"] = np.asarray(crystal.d_spacing(hkl_all), dtype=float) / orders
+        out["distances"] = None
+    return out
 
 
 # --------------------------------------------------------------------------------------
