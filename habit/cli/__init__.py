@@ -23,6 +23,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
     "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
     "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
+    "particle": ("habit.cli.particle", "Carve a particle of atoms by a crystal's shape."),
 }
 
 
