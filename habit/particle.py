@@ -1117,18 +1117,24 @@ def make_particle(
         if int(atoms) != atoms or atoms < 1:
             raise InputError(f"the number of atoms must be a whole number >= 1, got {atoms}.")
         target = int(atoms)
-        s_try = (1.3 * target * atom_volume / geom.volume) ** (1.0 / 3.0) + (
-            3.0
-            * float(np.max(first_shells(lat, frac, shell_width=shell_width).nearest))
-            / float(d.min())
-        )
+        # the expected volume plus one neighbour shell of margin; enlarged if too small
+        nn = float(np.max(first_shells(lat, frac, shell_width=shell_width).nearest))
+        s_try = (target * atom_volume / geom.volume) ** (1.0 / 3.0) + nn / float(d.min())
         for _ in range(60):
-            pos, site = carve(lat, frac, n, d * s_try, centre=c, on_face_tol=on_face_tol)
+            pos, site = carve(
+                lat,
+                frac,
+                n,
+                d * s_try,
+                centre=c,
+                on_face_tol=on_face_tol,
+                progress=(lambda k: report(k // 2)) if progress is not None else None,
+            )
             crit = critical_scales(pos, n, d)
             below, sb, above, sa = achievable_counts(crit, target)
             if above > 0 and sa < s_try * (1 - 1e-6):
                 break
-            s_try *= 1.5
+            s_try *= 1.25
         # ties go to the larger particle
         use_above = above > 0 and (below == 0 or above - target <= target - below)
         scale = sa if use_above else sb
@@ -1141,7 +1147,7 @@ def make_particle(
             "scale_below": sb,
             "scale_above": sa,
         }
-        report(100)
+        report(600)
         d_use = d * scale
         shape_volume = geom.volume * scale**3
     else:
@@ -1159,15 +1165,20 @@ def make_particle(
             f"distance {nearest:.3g} Å, so it cannot hold more than one atom; ask for a "
             "larger size."
         )
-    pos, site = carve(
-        lat,
-        frac,
-        n,
-        d_use,
-        centre=c,
-        on_face_tol=on_face_tol,
-        progress=(lambda k: report(100 + k // 2)) if progress is not None else None,
-    )
+    if atoms is not None:
+        # the particle at the chosen scale is a subset of the one already carved
+        keep = _inside(pos, n, d_use, _eps(d_use, on_face_tol))
+        pos, site = pos[keep], site[keep]
+    else:
+        pos, site = carve(
+            lat,
+            frac,
+            n,
+            d_use,
+            centre=c,
+            on_face_tol=on_face_tol,
+            progress=(lambda k: report(100 + k // 2)) if progress is not None else None,
+        )
     if len(pos) == 0:
         raise EmptyPolyhedronError(
             "no atom lies inside the shape at this size; ask for a larger size or centre "
