@@ -187,6 +187,16 @@ def _rotation_type(w: IntArray) -> int:
     return -n  # -n = inversion times a proper rotation of order n
 
 
+_ORDER_OF_TRACE = np.array([2, 3, 4, 6, 1])  # proper trace -1, 0, 1, 2, 3 -> order
+
+
+def _rotation_types(ops: IntArray) -> IntArray:
+    """Vectorised :func:`_rotation_type` for (G, 3, 3) operations; returns (G,) ints."""
+    dets = np.rint(np.linalg.det(ops.astype(np.float64))).astype(np.int64)  # (G,)
+    traces = np.trace(ops, axis1=1, axis2=2) * dets  # (G,) trace of the proper part
+    return np.asarray(_ORDER_OF_TRACE[traces + 1] * dets, dtype=np.int64)
+
+
 @dataclass(frozen=True, slots=True, eq=False)
 class PointGroup:
     """One of the 32 crystal classes with its operations in a given basis.
@@ -387,8 +397,8 @@ def _parse_point_group(symbol: str) -> PointGroup:
 
 # --- identification from matrices --------------------------------------------------------
 def _signature(ops: IntArray) -> tuple[int, ...]:
-    types = [_rotation_type(w) for w in ops]
-    return tuple(types.count(t) for t in (1, 2, 3, 4, 6, -1, -2, -3, -4, -6))
+    types = _rotation_types(ops)
+    return tuple(int(np.count_nonzero(types == t)) for t in (1, 2, 3, 4, 6, -1, -2, -3, -4, -6))
 
 
 @lru_cache(maxsize=1)
@@ -436,9 +446,8 @@ def _variant(geometric: str, ops: IntArray) -> str:
     }[geometric]  # fmt: skip
     wanted = -2 if geometric == "3m" else 2
     main = _main_axis(ops)
-    axes = [
-        _axis(w) for w in ops if _rotation_type(w) == wanted and np.any(np.cross(_axis(w), main))
-    ]
+    twofolds = [_axis(w) for w in ops[_rotation_types(ops) == wanted]]
+    axes = [u for u in twofolds if np.any(np.cross(u, main))]  # not along the main axis
     minors = [np.cross(u, v) for i, u in enumerate(axes) for v in axes[i + 1 :]]
     index = reduce(math.gcd, (abs(int(x)) for m in minors for x in m), 0)
     return first if index == 1 else second

@@ -265,7 +265,6 @@ def _class_of_space_group_symbol(symbol: str) -> str:
     return re.sub("[abcnde]", "m", core)
 
 
-@pytest.mark.slow
 def test_identification_agrees_with_spglib_for_all_230_types():
     # Reference library: spglib's database (Togo et al. 2024). The class and its orientation
     # (321/312, 3m1/31m, -3m1/-31m, -6m2/-62m, -42m/-4m2) read from spglib's space-group
@@ -558,3 +557,27 @@ def test_point_group_accepts_numbers_typed_as_integers():
     assert point_group(432).symbol == "432" and point_group(-1).symbol == "-1"
     with pytest.raises(UnknownSymbolError):
         point_group(5)
+
+
+# Primitive cells of the centred lattices, (a', b', c') = (a, b, c) @ P (ITA Vol. A
+# Table 5.1.3.1; from memory). Exact rational matrices.
+PRIMITIVE = {
+    "P": np.eye(3),
+    "A": np.array([[1, 0, 0], [0, 1, 1], [0, -1, 1]]) / np.array([1, 2, 2]),
+    "B": np.array([[1, 0, 1], [0, 1, 0], [-1, 0, 1]]) / np.array([2, 1, 2]),
+    "C": np.array([[1, 1, 0], [-1, 1, 0], [0, 0, 1]]) / np.array([2, 2, 1]),
+    "I": np.array([[-1, 1, 1], [1, -1, 1], [1, 1, -1]]) / 2,
+    "F": np.array([[0, 1, 1], [1, 0, 1], [1, 1, 0]]) / 2,
+    "R": RHOMBOHEDRAL_AXES,
+}
+
+
+def test_identification_in_primitive_cells_of_all_230_types():
+    # The class and its orientation relative to the lattice do not change when the
+    # conventional centred cell is replaced by a primitive one. Exact.
+    for number in range(1, 231):
+        sg = space_group(number)
+        p = PRIMITIVE[sg.symbol[0]]
+        primitive = sg.point_group.transformed(p)  # raises if not integral
+        found = point_group_from_operations(primitive.operations)
+        assert found.symbol == sg.point_group.symbol, (number, sg.symbol)
