@@ -346,7 +346,7 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
     ('m-3m', 'Oh', 48, True)
     >>> point_group("32").symbol, point_group("D3h").symbol
     ('321', '-6m2')
-    >>> point_group("5/m")
+    >>> point_group("5/m")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
     habit.errors.UnknownSymbolError: unknown crystal class '5/m'; ...

@@ -454,10 +454,11 @@ def test_is_absent_with_explicit_operations_and_shapes():
 @pytest.mark.parametrize(
     ("symbol", "hkl", "order"),
     [
-        # BFDH orders (Donnay & Harker 1937 rule with ITA Vol. A conditions); the d_eff
-        # planes listed in REFERENCES-style worked examples: fcc {100}->200, {110}->220,
-        # {111}->111; bcc {100}->200, {110}->110, {111}->222; diamond {100}->400,
-        # {110}->220, {111}->111, {311}->311. Exact.
+        # BFDH orders: Donnay & Harker (1937) rule applied with the reflection conditions
+        # of ITA Vol. A; the first allowed reflections fcc 200, 220, 111; bcc 200, 110,
+        # 222; diamond 400, 220, 111, 311 are the standard powder lines of these
+        # structures (common practice); P2_1/c 020, 002 (screw and glide); P6_3/mmc 002.
+        # Exact.
         ("Fm-3m", (1, 0, 0), 2), ("Fm-3m", (1, 1, 0), 2), ("Fm-3m", (1, 1, 1), 1),
         ("Im-3m", (1, 0, 0), 2), ("Im-3m", (1, 1, 0), 1), ("Im-3m", (1, 1, 1), 2),
         ("Fd-3m", (1, 0, 0), 4), ("Fd-3m", (1, 1, 0), 2), ("Fd-3m", (1, 1, 1), 1),
