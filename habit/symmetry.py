@@ -328,7 +328,9 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
         ``"4/mmm"``, ``"-3 2/m"``, ``"bar3m"``, ``"3̄m"``), a monoclinic full symbol
         giving the unique axis (``"1 2/m 1"``, ``"1 1 2/m"``, ``"2/m 1 1"``), or a
         Schoenflies symbol (``"Oh"``, ``"D3d"``); case and spaces do not matter.
-        A PointGroup is returned unchanged.
+        A suffix picks the axes: ``":R"`` rhombohedral (``"-3m:R"``), ``":H"``
+        hexagonal (default), ``":a"``, ``":b"`` (default), ``":c"`` the unique axis of a
+        monoclinic class. A PointGroup is returned unchanged.
 
     Returns
     -------
@@ -362,6 +364,26 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
 
 @lru_cache(maxsize=256)
 def _parse_point_group(symbol: str) -> PointGroup:
+    name, colon, setting = symbol.partition(":")
+    if colon:
+        group = _parse_point_group(name) if name.strip() else None
+        change = {"r": RHOMBOHEDRAL_AXES, "h": _I, "a": UNIQUE_AXIS_A, "b": _I}
+        change["c"] = UNIQUE_AXIS_C
+        key = setting.strip().lower()
+        if group is None or key not in change:
+            raise _unknown(symbol)
+        if (
+            key in "abc"
+            and group.system != "monoclinic"
+            or key in "rh"
+            and group.system != "trigonal"
+        ):
+            raise UnknownSymbolError(
+                f"setting ':{setting.strip()}' in {symbol!r} does not apply to class "
+                f"{group.symbol}; use ':R' or ':H' for trigonal and ':a', ':b', ':c' for "
+                "monoclinic classes."
+            )
+        return group.transformed(change[key])
     text = symbol.strip().replace("\u2212", "-").replace("\u2013", "-")
     text = re.sub(r"(\d)[\u0304\u0305]", r"-\1", text)  # 3̄ -> -3
     text = re.sub(r"bar\s*", "-", text, flags=re.IGNORECASE)

@@ -582,3 +582,16 @@ def test_identification_in_primitive_cells_of_all_230_types():
         primitive = sg.point_group.transformed(p)  # raises if not integral
         found = point_group_from_operations(primitive.operations)
         assert found.symbol == sg.point_group.symbol, (number, sg.symbol)
+
+
+def test_setting_suffixes():
+    assert point_group("-3m:R") == point_group("-3m").transformed(RHOMBOHEDRAL_AXES)
+    assert point_group("-3m:H") is point_group("-3m")
+    assert point_group("2/m:c") == point_group("1 1 2/m")
+    assert point_group("m:a") == point_group("m 1 1")
+    with pytest.raises(UnknownSymbolError, match="does not apply"):
+        point_group("m-3m:R")
+    with pytest.raises(UnknownSymbolError):
+        point_group("2/m:x")
+    with pytest.raises(InputError, match="non-integral"):
+        point_group("312:R")
