@@ -383,7 +383,7 @@ def _parse_point_group(symbol: str) -> PointGroup:
                 f"{group.symbol}; use ':R' or ':H' for trigonal and ':a', ':b', ':c' for "
                 "monoclinic classes."
             )
-        return group.transformed(change[key])
+        return group if key in "bh" else group.transformed(change[key])
     text = symbol.strip().replace("\u2212", "-").replace("\u2013", "-")
     text = re.sub(r"(\d)[\u0304\u0305]", r"-\1", text)  # 3̄ -> -3
     text = re.sub(r"bar\s*", "-", text, flags=re.IGNORECASE)
