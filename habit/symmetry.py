@@ -613,6 +613,18 @@ def expand_form(hkl: ArrayLike, operations: ArrayLike | str | PointGroup) -> Int
 def multiplicity(hkl: ArrayLike, group: ArrayLike | str | PointGroup) -> int:
     """Return the number of faces of the form {hkl} in ``group``.
 
+    Parameters
+    ----------
+    hkl : (3,) int array
+        Miller indices of one face.
+    group : (G, 3, 3) int array, PointGroup or str
+        The crystal class.
+
+    Returns
+    -------
+    int
+        The number of distinct faces; it divides the order of the group.
+
     Examples
     --------
     >>> multiplicity([2, 1, 0], "m-3m"), multiplicity([2, 1, 0], "m-3")
