@@ -456,3 +456,46 @@ def test_extxyz_refuses_a_missing_folder(tmp_path) -> None:
     with pytest.raises(HabitError, match="does not exist"):
         write_extxyz(p, tmp_path / "nowhere" / "p.xyz")
     assert format_extxyz(p).startswith("13\n")
+
+
+# ---------------------------------------------------------------- from a Crystal
+
+
+def test_layer_spacings_from_the_crystal_follow_the_f_centring_condition() -> None:
+    # F-centred lattice: hkl reflect only when all even or all odd (International Tables
+    # Vol. A, from memory) -> d_eff = a/sqrt(3), a/2, a/(2 sqrt 2) for {111}, {100}, {110}
+    from habit.crystal import load_crystal
+    from habit.particle import crystal_planes
+
+    fluorite = load_crystal("fluorite")
+    a = fluorite.cell[0]
+    kw = crystal_planes(fluorite, {"111": 1.0, "100": 1.0, "110": 1.0}, shells=True)
+    assert kw["form_labels"] == ("{111}", "{100}", "{110}")
+    expected = np.array([a / math.sqrt(3), a / 2, a / (2 * math.sqrt(2))])
+    assert np.allclose(kw["layer_spacings"], expected[kw["form_ids"]], rtol=1e-12)
+    assert np.bincount(kw["form_ids"]).tolist() == [8, 6, 12]
+
+
+def test_ionic_particle_keeps_the_formula_in_the_large_limit() -> None:
+    # fluorite CaF2 (bundled CIF, Wyckoff 1963): Ca and F counts of a large particle with
+    # generic faces each within 1 % of volume x their number density (Gauss count)
+    from habit.crystal import load_crystal
+
+    fluorite = load_crystal("fluorite")
+    rng = np.random.default_rng(7)
+    normals = rng.normal(size=(40, 3))
+    d = np.full(40, 40.0)
+    p = make_particle(fluorite.structure, normals, d, centre="Ca")
+    volume = shape_geometry(normals, d).volume
+    counts = p.summary()["atoms_by_species"]
+    assert counts["Ca"] == pytest.approx(4 * volume / fluorite.volume, rel=0.01)
+    assert counts["F"] == pytest.approx(8 * volume / fluorite.volume, rel=0.01)
+
+
+def test_a_crystal_without_atoms_is_refused() -> None:
+    from habit.crystal import Crystal
+    from habit.particle import crystal_planes
+
+    bare = Crystal.from_cell(3.615, crystal_class="m-3m")
+    with pytest.raises(InputError, match="no atoms"):
+        crystal_planes(bare, {"111": 1.0})
