@@ -33,7 +33,8 @@ equivalent diameter
 References
 ----------
 .. [1] A. L. Mackay, "A dense non-crystallographic packing of equal spheres",
-   Acta Cryst. 15, 916-918 (1962) — cuboctahedral magic numbers (from memory).
+   Acta Cryst. 15, 916-918 (1962) — shell magic numbers 10K^2 + 2 (reference checked
+   against a citing article's list).
 .. [2] T. P. Martin, "Shells of atoms", Phys. Rep. 273, 199-241 (1996) — shell
    structure and magic numbers of cluster series (from memory).
 """

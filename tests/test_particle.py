@@ -5,8 +5,8 @@ Sources
 - fcc copper, a = 3.615 Å at room temperature: R. W. G. Wyckoff, Crystal Structures,
   Vol. 1, 2nd ed. (Interscience, 1963) — from memory.
 - Cuboctahedral (Mackay) magic numbers N(K) = 10K^3/3 + 5K^2 + 11K/3 + 1 and
-  10K^2 + 2 atoms in the K-th shell: A. L. Mackay, Acta Cryst. 15, 916 (1962);
-  T. P. Martin, Phys. Rep. 273, 199 (1996) — both from memory.
+  10K^2 + 2 atoms in the K-th shell: A. L. Mackay, Acta Cryst. 15, 916-918 (1962)
+  (reference checked); T. P. Martin, Phys. Rep. 273, 199 (1996) — from memory.
 - Octahedral numbers n(2n^2 + 1)/3 (atoms of an fcc octahedron with n atoms per edge):
   closed form, e.g. Martin (1996) — from memory.
 - Lattice points in a large convex body ~ volume / cell volume (Gauss's lattice-point
