@@ -299,7 +299,7 @@ def _reduced(lattice: FloatArray, frac: FloatArray) -> tuple[FloatArray, FloatAr
     Short, nearly orthogonal cell vectors keep the enumeration boxes small whatever cell
     the user chose (pymatgen's lattice reduction).
     """
-    from pymatgen.core import Lattice
+    from pymatgen.core.lattice import Lattice
 
     red = Lattice(lattice)
     mapping = np.rint(np.asarray(red.lll_mapping, dtype=float))  # lll = mapping @ lattice
@@ -435,7 +435,7 @@ def carve(
     c_cart = np.asarray(centre, dtype=float).reshape(3) @ lat
     lat, frac = _reduced(lat, frac)
     u = frac - c_cart @ np.linalg.inv(lat)  # (S, 3) site offsets from the centre, fractional
-    recip = np.linalg.inv(lat).T  # rows a*, b*, c*
+    recip = np.asarray(np.linalg.inv(lat).T, dtype=np.float64)  # rows a*, b*, c*
     hi = _extent(n, d + 2 * eps, recip)  # max of fractional coordinate j over the shape
     lo = -_extent(n, d + 2 * eps, -recip)
     t_lo = np.floor(lo - u.max(axis=0)).astype(int) - 1
@@ -668,7 +668,7 @@ def _wyckoff_points(
 
     numbers = np.unique(species, return_inverse=True)[1].astype(int) + 1
     cell = (lattice, frac, numbers)
-    data = spglib.get_symmetry_dataset(cell, symprec=1e-3)
+    data = spglib.get_symmetry_dataset(cell, symprec=1e-3)  # type: ignore[arg-type]
     if data is None:
         raise InputError("spglib could not find the symmetry of the structure.")
     rot = np.asarray(data.rotations, dtype=float)  # (G, 3, 3)
@@ -709,7 +709,7 @@ def _wyckoff_points(
                 np.vstack([frac, orbit]),
                 np.concatenate([numbers, np.full(len(orbit), numbers.max() + 1)]),
             )
-            aug_data = spglib.get_symmetry_dataset(aug, symprec=1e-3)
+            aug_data = spglib.get_symmetry_dataset(aug, symprec=1e-3)  # type: ignore[arg-type]
             if aug_data is None or aug_data.number != data.number:
                 continue
             letter = str(aug_data.wyckoffs[len(frac)])

@@ -340,17 +340,28 @@ def test_count_grows_with_scale_and_matches_critical_scales(s1: float, s2: float
 
 
 def test_wyckoff_positions_of_fm3m() -> None:
-    # International Tables Vol. A (from memory): 4a, 4b, 8c, 24d have no free parameter
+    # International Tables Vol. A (from memory): the positions of Fm-3m without a free
+    # parameter are 4a (0,0,0), 4b (1/2,1/2,1/2), 8c (1/4,1/4,1/4) and 24d (0,1/4,1/4)
+    from habit.particle import _wyckoff_points
+
     s = fcc_cu()
-    for label, expected in [("4a", [0, 0, 0]), ("4b", [0.5, 0.5, 0.5]), ("8c", [0.25] * 3)]:
-        point, note = resolve_centre(label, s.lattice.matrix, s.frac_coords, tuple(["Cu"] * 4))
+    species = tuple(["Cu"] * 4)
+    points = _wyckoff_points(s.lattice.matrix, s.frac_coords, species)
+    assert sorted(points) == ["24d", "4a", "4b", "8c"]
+    centring = np.array([[0, 0, 0], [0, 0.5, 0.5], [0.5, 0, 0.5], [0.5, 0.5, 0]])
+    orbits = {  # representatives of each orbit modulo the F-centring
+        "4a": [[0, 0, 0]],
+        "4b": [[0.5, 0.5, 0.5]],
+        "8c": [[0.25, 0.25, 0.25], [0.75, 0.75, 0.75]],
+    }
+    for label, reps in orbits.items():
+        point, note = resolve_centre(label, s.lattice.matrix, s.frac_coords, species)
         assert label in note
-        # the point is equivalent to the listed one under the fcc lattice
-        shifts = np.array([[0, 0, 0], [0, 0.5, 0.5], [0.5, 0, 0.5], [0.5, 0.5, 0]])
-        diffs = (point - expected - shifts) % 1.0
-        assert np.any(np.all(np.minimum(diffs, 1 - diffs) < 1e-9, axis=1)) or label == "8c"
+        cands = (np.asarray(reps)[:, None, :] + centring[None]).reshape(-1, 3)
+        diff = (point - cands) % 1.0
+        assert np.any(np.all(np.minimum(diff, 1 - diff) < 1e-9, axis=1)), label
     with pytest.raises(InputError, match="Wyckoff"):
-        resolve_centre("9z", s.lattice.matrix, s.frac_coords, tuple(["Cu"] * 4))
+        resolve_centre("9z", s.lattice.matrix, s.frac_coords, species)
 
 
 def test_wyckoff_multiplicity_does_not_depend_on_the_cell() -> None:
@@ -412,6 +423,12 @@ def test_shape_between_atoms_is_empty() -> None:
 
 
 # ---------------------------------------------------------------- objects and export
+
+
+def test_progress_is_reported_in_thousandths_up_to_the_end() -> None:
+    seen: list[int] = []
+    make_particle(fcc_cu(), CUBOCT, np.ones(14), diameter=40.0, progress=seen.append)
+    assert seen == sorted(seen) and seen[-1] == 1000 and 0 <= seen[0] < 1000
 
 
 def test_particle_is_frozen_and_read_only() -> None:

@@ -154,7 +154,13 @@ def command(
     from habit.errors import InputError
     from habit.particle import crystal_planes, make_particle, particle_series, write_extxyz
 
-    sizes = {"diameter": diameter, "edge": edge, "volume": volume, "atoms": atoms, "shells": shells}
+    sizes: dict[str, Any] = {
+        "diameter": diameter,
+        "edge": edge,
+        "volume": volume,
+        "atoms": atoms,
+        "shells": shells,
+    }
     given = [k for k, v in sizes.items() if v is not None]
     if len(given) != 1:
         raise InputError(
