@@ -15,6 +15,7 @@ __version__ = "0.1.0"
 _PUBLIC: dict[str, str] = {
     "HabitError": "habit.errors",
     "Tolerances": "habit.tolerances",
+    "make_particle": "habit.particle",
 }
 
 __all__ = sorted(_PUBLIC)

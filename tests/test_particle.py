@@ -516,3 +516,42 @@ def test_a_crystal_without_atoms_is_refused() -> None:
     bare = Crystal.from_cell(3.615, crystal_class="m-3m")
     with pytest.raises(InputError, match="no atoms"):
         crystal_planes(bare, {"111": 1.0})
+
+
+def test_hexagonal_wurtzite_particle() -> None:
+    # zincite ZnO (bundled CIF): tetrahedral first shells (4 neighbours, pymatgen agrees),
+    # and Zn, O counts of a large generic particle within 1 % of volume x number density
+    from habit.crystal import load_crystal
+
+    zincite = load_crystal("zincite")
+    s = zincite.structure
+    shells = first_shells(s.lattice.matrix, s.frac_coords)
+    assert shells.coordination.tolist() == [4, 4, 4, 4]
+    for i in range(len(s)):
+        assert len(s.get_neighbors(s[i], float(shells.cutoff[i]))) == 4
+    rng = np.random.default_rng(11)
+    normals = rng.normal(size=(40, 3))
+    d = np.full(40, 35.0)
+    p = make_particle(s, normals, d, centre="Zn")
+    expected = 2 * shape_geometry(normals, d).volume / zincite.volume
+    counts = p.summary()["atoms_by_species"]
+    assert counts["Zn"] == pytest.approx(expected, rel=0.01)
+    assert counts["O"] == pytest.approx(expected, rel=0.01)
+
+
+def test_a_polar_pedion_alone_leaves_the_particle_open() -> None:
+    # in the polar class 6mm, {0001} is the single face (0001): no face closes -z
+    from habit.crystal import load_crystal
+    from habit.particle import crystal_planes
+
+    zincite = load_crystal("zincite")
+    kw = crystal_planes(zincite, {"10-10": 1.0, "0001": 1.2}, shells=True)
+    with pytest.raises(OpenShapeError, match="open along"):
+        make_particle(**kw, shells=3)
+    kw = crystal_planes(zincite, {"10-10": 1.0, "0001": 1.2, "000-1": 1.2}, shells=True)
+    p = make_particle(**kw, shells=3)
+    assert p.n_surface > 0 and set(p.summary()["facet_atoms_by_form"]) == {
+        "{10-10}",
+        "{0001}",
+        "{000-1}",
+    }
