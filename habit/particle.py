@@ -347,31 +347,26 @@ def first_shells(
     )
     if not 0.0 < shell_width < 1.0:
         raise InputError(f"shell_width must lie between 0 and 1, got {shell_width}.")
+    from scipy.spatial import cKDTree
+
     cart = frac @ lat  # (S, 3)
-    # nearest distance: search a radius that surely contains a neighbour
-    volume = abs(np.linalg.det(lat))
-    probe = 2.0 * (volume / len(frac)) ** (1.0 / 3.0) + np.max(np.linalg.norm(lat, axis=1))
-    shift = _translations_within(lat, probe) @ lat  # (T, 3)
-    diff = cart[None, :, None, :] + shift[None, None, :, :] - cart[:, None, None, :]
-    diff = diff.reshape(len(frac), -1, 3)  # (S, S*T, 3): from site s to every image
-    dist = np.linalg.norm(diff, axis=2)  # (S, S*T)
-    dist_nz = np.where(dist > 1e-8, dist, np.inf)
-    nearest = dist_nz.min(axis=1)
-    if not np.all(np.isfinite(nearest)):
-        raise InputError("could not find a neighbour of every site; check the cell.")
+    # the shortest cell vector bounds the nearest-neighbour distance of every site
+    radius = 1.0 + (1.0 + shell_width) * float(np.min(np.linalg.norm(lat, axis=1)))
+    shift = _translations_within(lat, radius) @ lat  # (T, 3)
+    images = (cart[None, :, :] + shift[:, None, :]).reshape(-1, 3)  # (T*S, 3)
+    tree = cKDTree(images)
+    dist, _ = tree.query(cart, k=2)  # (S, 2): the site itself, then its nearest neighbour
+    nearest = dist[:, 1]
     cutoff = (1.0 + shell_width) * nearest
-    if np.any(cutoff > probe):  # very sparse cell: enlarge the search once
-        shift = _translations_within(lat, float(cutoff.max())) @ lat
-        diff = cart[None, :, None, :] + shift[None, None, :, :] - cart[:, None, None, :]
-        diff = diff.reshape(len(frac), -1, 3)
-        dist = np.linalg.norm(diff, axis=2)
-        dist_nz = np.where(dist > 1e-8, dist, np.inf)
-    inshell = dist_nz <= cutoff[:, None]  # (S, S*T)
-    coordination = inshell.sum(axis=1).astype(np.int64)
-    kmax = int(coordination.max())
-    vectors = np.full((len(frac), kmax, 3), np.nan)
-    for s in range(len(frac)):  # loop over sites of the cell, not over atoms
-        vectors[s, : coordination[s]] = diff[s, inshell[s]]
+    found = tree.query_ball_point(cart, cutoff)  # one list of image indices per site
+    vectors_list = [
+        images[np.asarray(ids, dtype=np.int64)] - cart[i] for i, ids in enumerate(found)
+    ]  # loop over the sites of one cell, not over atoms
+    vectors_list = [v[np.linalg.norm(v, axis=1) > 1e-8] for v in vectors_list]
+    coordination = np.array([len(v) for v in vectors_list], dtype=np.int64)
+    vectors = np.full((len(frac), int(coordination.max()), 3), np.nan)
+    for i, v in enumerate(vectors_list):
+        vectors[i, : len(v)] = v
     return FirstShells(nearest, cutoff, coordination, vectors)
 
 
