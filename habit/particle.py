@@ -943,7 +943,11 @@ class Particle:
         """(M,) str array: ``bulk``, ``facet{hkl}``, ``edge`` or ``vertex``."""
         names = np.array(SITE_KINDS, dtype=object)[self.kind]
         facet = self.kind == 1
-        forms = np.array([f"facet{lab}" for lab in self.form_labels] + ["facet"], dtype=object)
+        forms = np.array(
+            [f"facet{lab}" if lab.startswith("{") else f"facet_{lab}" for lab in self.form_labels]
+            + ["facet"],
+            dtype=object,
+        )
         names[facet] = forms[self.facet_form[facet]]
         return names.astype(str)
 
@@ -1391,17 +1395,18 @@ def format_extxyz(particle: Particle, *, vacuum: float = 10.0, comment: str = ""
     )
     if comment:
         header += ' comment="' + comment.replace('"', "'") + '"'
-    labels = particle.site_labels()
-    body = np.char.add(
-        np.char.add(
-            np.char.ljust(particle.species.astype(str), 3),
-            np.char.mod("%14.6f", shifted[:, 0])
-            + np.char.mod("%14.6f", shifted[:, 1])
-            + np.char.mod("%14.6f", shifted[:, 2]),
-        ),
-        np.char.add(np.char.add("  ", labels), np.char.mod(" %d", particle.coordination)),
+    labels = ["_".join(lab.split()) for lab in particle.site_labels().tolist()]  # no blanks
+    line = "{:<3}{:14.6f}{:14.6f}{:14.6f}  {} {}".format
+    body = map(
+        line,
+        particle.species.tolist(),
+        shifted[:, 0].tolist(),
+        shifted[:, 1].tolist(),
+        shifted[:, 2].tolist(),
+        labels,
+        particle.coordination.tolist(),
     )
-    return f"{particle.n_atoms}\n{header}\n" + "\n".join(body.tolist()) + "\n"
+    return f"{particle.n_atoms}\n{header}\n" + "\n".join(body) + "\n"
 
 
 def write_extxyz(particle: Particle, path: str | os.PathLike[str], **kwargs: Any) -> None:
