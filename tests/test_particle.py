@@ -555,3 +555,30 @@ def test_a_polar_pedion_alone_leaves_the_particle_open() -> None:
         "{0001}",
         "{000-1}",
     }
+
+
+def _bundled_with_atoms() -> list[str]:
+    from habit.crystal import bundled_crystals, load_crystal
+
+    return sorted(n for n in bundled_crystals() if load_crystal(n).structure is not None)
+
+
+@pytest.mark.parametrize("name", _bundled_with_atoms())
+def test_every_bundled_structure_carves_to_its_formula(name: str) -> None:
+    # triclinic to cubic cells: per-species counts of a generic particle within 3 % of
+    # volume x number density (Gauss lattice-point count; tolerance common practice for
+    # particles of a few thousand atoms), and the carving centre is always kept
+    from habit.crystal import load_crystal
+
+    crystal = load_crystal(name)
+    s = crystal.structure
+    rng = np.random.default_rng(5)
+    normals = rng.normal(size=(30, 3))
+    d = np.full(30, 22.0)
+    p = make_particle(s, normals, d)
+    volume = shape_geometry(normals, d).volume
+    counts = p.summary()["atoms_by_species"]
+    for element, per_cell in s.composition.element_composition.items():
+        expected = per_cell * volume / crystal.volume
+        assert counts[str(element)] == pytest.approx(expected, rel=0.03), element
+    assert np.min(np.linalg.norm(p.positions, axis=1)) < 1e-9
