@@ -322,7 +322,9 @@ class Polyhedron:
                     f"face_labels needs one label per plane ({nplanes}); got {len(face_labels)}."
                 )
             labels = tuple(str(face_labels[i]) for i in pid)
-        return cls(
+        if hkl_f is not None:
+            hkl_f = hkl_f.astype(np.int64, copy=False)
+        return cls._trusted(
             vertices=res.vertices,
             face_vertices=res.face_vertices,
             face_offsets=res.face_offsets,
@@ -330,12 +332,28 @@ class Polyhedron:
             distances=res.distances[pid],
             face_areas=res.face_areas,
             hkl=hkl_f,
-            form_ids=fid,
-            form_labels=None if form_labels is None else tuple(form_labels),
+            form_ids=fid.astype(np.int64, copy=False),
+            form_labels=None if form_labels is None else tuple(str(x) for x in form_labels),
             face_labels=labels,
             plane_ids=pid,
             n_planes=nplanes,
+            vertex_hkl=None,
         )
+
+    @classmethod
+    def _trusted(cls, **fields: Any) -> Polyhedron:
+        """Build from arrays this module has just computed (fresh, right dtypes, owned).
+
+        Skips the copies and checks of ``__post_init__``; the arrays are only made
+        read-only. Every field must be given.
+        """
+        obj = object.__new__(cls)
+        for name, value in fields.items():
+            if isinstance(value, np.ndarray):
+                value.setflags(write=False)
+            object.__setattr__(obj, name, value)
+        object.__setattr__(obj, "_cache", {})
+        return obj
 
     @classmethod
     def from_vertices(cls, points: ArrayLike, *, tol: Tolerances = _DEFAULT_TOL) -> Polyhedron:
