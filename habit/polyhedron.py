@@ -423,7 +423,7 @@ class Polyhedron:
         return self._replace(plane_ids=None, n_planes=0, form_ids=None)
 
     def _replace(self, **changes: Any) -> Polyhedron:
-        kw = {
+        kw: dict[str, Any] = {
             "vertices": self.vertices,
             "face_vertices": self.face_vertices,
             "face_offsets": self.face_offsets,
@@ -530,7 +530,7 @@ class Polyhedron:
     def area_by_form(self) -> FloatArray:
         """Area of each form (indexed by form id), Å², (n_forms,)."""
         fid = np.asarray(self.form_ids)
-        return np.bincount(fid, self.face_areas, minlength=self.n_forms)
+        return np.bincount(fid, self.face_areas, minlength=self.n_forms).astype(np.float64)
 
     @property
     def area_fractions_by_form(self) -> FloatArray:
@@ -543,14 +543,14 @@ class Polyhedron:
         """Length of each edge, Å, (E,)."""
         e = self.edges
         diff = self.vertices[e[:, 1]] - self.vertices[e[:, 0]]
-        return np.sqrt(np.einsum("ij,ij->i", diff, diff))
+        return np.asarray(np.sqrt(np.einsum("ij,ij->i", diff, diff)), dtype=np.float64)
 
     @property
     def interfacial_angles(self) -> FloatArray:
         """Angle between the normals of the two faces at each edge, radians, (E,)."""
         ef = self.edge_faces
         c = np.einsum("ij,ij->i", self.normals[ef[:, 0]], self.normals[ef[:, 1]])
-        return np.arccos(np.clip(c, -1.0, 1.0))
+        return np.asarray(np.arccos(np.clip(c, -1.0, 1.0)), dtype=np.float64)
 
     @property
     def dihedral_angles(self) -> FloatArray:
@@ -608,7 +608,7 @@ class Polyhedron:
         cosv = np.einsum("ij,ij->i", a, b) / np.sqrt(
             np.einsum("ij,ij->i", a, a) * np.einsum("ij,ij->i", b, b)
         )
-        return np.arccos(np.clip(cosv, -1.0, 1.0))
+        return np.asarray(np.arccos(np.clip(cosv, -1.0, 1.0)), dtype=np.float64)
 
     @property
     def angle_defects(self) -> FloatArray:
