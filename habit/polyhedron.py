@@ -48,6 +48,14 @@ def _frozen(a: Any, dtype: Any) -> Any:
     return arr
 
 
+def _is_integral(a: np.ndarray) -> bool:
+    if np.issubdtype(a.dtype, np.integer):
+        return True
+    if not np.issubdtype(a.dtype, np.floating):
+        return False
+    return bool(np.isfinite(a).all() and (a == np.round(a)).all())
+
+
 def fan_triangles(face_offsets: IntArray) -> tuple[IntArray, IntArray]:
     """Split every face loop into a fan of triangles from its first vertex.
 
@@ -305,12 +313,14 @@ class Polyhedron:
             h = np.asarray(hkl)
             if h.shape != (nplanes, 3):
                 raise InputError(f"hkl must be ({nplanes}, 3) like the normals; got {h.shape}.")
+            if not _is_integral(h):
+                raise InputError("hkl must hold integers (Miller indices).")
             hkl_f = h[pid]
         if form_ids is None:
             fid = pid
         else:
             f = np.asarray(form_ids)
-            if f.shape != (nplanes,) or (f < 0).any():
+            if f.shape != (nplanes,) or not _is_integral(f) or (f < 0).any():
                 raise InputError(
                     f"form_ids must be {nplanes} integers >= 0, one per plane; got shape {f.shape}."
                 )
