@@ -23,6 +23,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
     "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
     "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
+    "dual": ("habit.cli.dual", "Dual polyhedron by polar reciprocation."),
+    "pack": ("habit.cli.pack", "Densest lattice (and double-lattice) packing of a shape."),
 }
 
 
