@@ -14,6 +14,7 @@ from habit.errors import FileFormatError
 from habit.io import (
     obj_text,
     polyhedron_to_dict,
+    read_polyhedron_json,
     stl_bytes,
     write_obj,
     write_polyhedron_json,
@@ -143,3 +144,24 @@ def test_writes_are_atomic(tmp_path, monkeypatch) -> None:
     # the old file is untouched and no temporary file is left behind
     assert target.read_text() == "old"
     assert sorted(os.listdir(tmp_path)) == ["keep.obj"]
+
+
+def test_json_read_back(tmp_path) -> None:
+    p = truncated_octahedron()
+    back = read_polyhedron_json(write_polyhedron_json(p, tmp_path / "s.json"))
+    assert back.volume == pytest.approx(p.volume, rel=1e-12)
+    assert (back.n_vertices, back.n_edges, back.n_faces) == (24, 36, 14)
+    # labels follow the faces: each face's hkl is parallel to its normal (cubic)
+    hkl = back.hkl / np.linalg.norm(back.hkl, axis=1)[:, None]
+    assert np.einsum("ij,ij->i", hkl, back.normals) == pytest.approx(np.ones(14))
+    assert back.form_labels == ("{100}", "{111}")
+    assert sorted(back.area_by_form) == pytest.approx(sorted(p.area_by_form))
+    bad = tmp_path / "bad.json"
+    bad.write_text('{"faces": []}')
+    with pytest.raises(FileFormatError, match="vertices_A"):
+        read_polyhedron_json(bad)
+    bad.write_text("{not json")
+    with pytest.raises(FileFormatError, match="not valid JSON"):
+        read_polyhedron_json(bad)
+    with pytest.raises(FileFormatError, match="no such file"):
+        read_polyhedron_json(tmp_path / "none.json")
