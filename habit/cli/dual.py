@@ -68,9 +68,11 @@ def command(
             f"sphere of radius {result.radius:.4f} Å ({scale})"
         )
         if poly.face_labels is not None:
-            click.echo("face -> dual vertex: " + ", ".join(
-                f"{p['face_label']}->v{p['dual_vertex']}" for p in pairs[:12]
-            ) + (" ..." if len(pairs) > 12 else ""))
+            click.echo(
+                "face -> dual vertex: "
+                + ", ".join(f"{p['face_label']}->v{p['dual_vertex']}" for p in pairs[:12])
+                + (" ..." if len(pairs) > 12 else "")
+            )
     if plot_path:
         from habit.plot import save_figure
         from habit.plot.shape import plot_polyhedron
