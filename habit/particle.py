@@ -262,7 +262,9 @@ def shape_geometry(normals: ArrayLike, distances: ArrayLike) -> ShapeGeometry:
     # two common planes are the two ends of an edge
     iu, ju = np.nonzero(np.triu(shared >= 2, k=1))
     lengths = np.linalg.norm(vertices[iu] - vertices[ju], axis=1)
-    return ShapeGeometry(vertices, volume, lengths, lower, upper)
+    return ShapeGeometry(
+        _frozen(vertices), volume, _frozen(lengths), _frozen(lower), _frozen(upper)
+    )
 
 
 # --------------------------------------------------------------------------------------
@@ -367,7 +369,7 @@ def first_shells(
     vectors = np.full((len(frac), int(coordination.max()), 3), np.nan)
     for i, v in enumerate(vectors_list):
         vectors[i, : len(v)] = v
-    return FirstShells(nearest, cutoff, coordination, vectors)
+    return FirstShells(_frozen(nearest), _frozen(cutoff), _frozen(coordination), _frozen(vectors))
 
 
 # --------------------------------------------------------------------------------------
@@ -640,8 +642,9 @@ def classify_sites(
         facet_form[surface[is_facet]] = forms[which[is_facet]]
     planes_crossed = np.zeros(m, dtype=np.int64)
     planes_crossed[surface] = count
-    kind.setflags(write=False)
-    return SiteClasses(coordination, kind, facet_form, planes_crossed)
+    return SiteClasses(
+        _frozen(coordination), _frozen(kind), _frozen(facet_form), _frozen(planes_crossed)
+    )
 
 
 # --------------------------------------------------------------------------------------
@@ -1131,7 +1134,9 @@ def make_particle(
                 progress=(lambda k: report(k // 2)) if progress is not None else None,
             )
             crit = critical_scales(pos, n, d)
-            below, sb, above, sa = achievable_counts(crit, target)
+            # critical scales closer than the on-face tolerance enter together
+            gap = 2.0 * on_face_tol * max(1.0, s_try * float(d.max())) / (s_try * float(d.min()))
+            below, sb, above, sa = achievable_counts(crit, target, rel_gap=gap)
             if above > 0 and sa < s_try * (1 - 1e-6):
                 break
             s_try *= 1.25
