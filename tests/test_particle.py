@@ -315,6 +315,24 @@ def test_target_atoms_picks_the_nearest_achievable_count(target: int) -> None:
         assert len(pos) < count
 
 
+@settings(max_examples=6, deadline=None)
+@given(target=st.integers(2, 1500), ratio=st.floats(0.9, 1.6), seed=st.integers(0, 10**6))
+def test_nearest_counts_are_achieved_for_any_target(target, ratio, seed) -> None:
+    s = fcc_cu()
+    centre = np.random.default_rng(seed).random(3)
+    d = np.r_[np.full(8, 1.0), np.full(6, ratio)]
+    p = make_particle(s, CUBOCT, d, atoms=target, centre=centre)
+    note = p.size_note
+    assert note["nearest_below"] <= target <= note["nearest_above"]
+    assert p.n_atoms in (note["nearest_below"], note["nearest_above"])
+    for key in ("below", "above"):
+        if note[f"nearest_{key}"] > 0:
+            pos, _ = carve(
+                s.lattice.matrix, s.frac_coords, CUBOCT, d * note[f"scale_{key}"], centre=centre
+            )
+            assert len(pos) == note[f"nearest_{key}"]
+
+
 def test_achievable_counts_on_a_hand_made_step_function() -> None:
     crit = [0.0, 1.0, 1.0, 2.0, 3.0, 3.0, 3.0]
     assert achievable_counts(crit, 2) == (1, 0.0, 3, 1.0)
