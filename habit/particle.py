@@ -72,6 +72,7 @@ __all__ = [
     "achievable_counts",
     "make_particle",
     "crystal_planes",
+    "polyhedron_planes",
     "resolve_centre",
     "particle_series",
     "format_extxyz",
@@ -1359,6 +1360,39 @@ def crystal_planes(crystal: Any, forms: Any = None, *, shells: bool = False) -> 
         orders = np.asarray(first_allowed_order(hkl_all, crystal.space_group))
         out["layer_spacings"] = np.asarray(crystal.d_spacing(hkl_all), dtype=float) / orders
         out["distances"] = None
+    return out
+
+
+def polyhedron_planes(polyhedron: Any) -> dict[str, Any]:
+    """Planes of a habit Polyhedron (Wulff shape, drawing, reference solid) as keywords.
+
+    Parameters
+    ----------
+    polyhedron : habit.polyhedron.Polyhedron
+        Its origin becomes the carving centre, so it must lie inside the solid.
+
+    Returns
+    -------
+    dict
+        ``normals``, ``distances`` (Å: sizes given to :func:`make_particle` rescale
+        them), ``hkl`` (or None), ``form_ids`` and ``form_labels`` (when known), to be
+        passed to :func:`make_particle` together with a structure in the same frame.
+    """
+    normals = np.asarray(polyhedron.normals, dtype=float)
+    out: dict[str, Any] = {
+        "normals": normals,
+        "distances": np.asarray(polyhedron.distances, dtype=float),
+        "hkl": None if polyhedron.hkl is None else np.asarray(polyhedron.hkl),
+    }
+    if polyhedron.form_ids is not None:
+        kept, ids = np.unique(np.asarray(polyhedron.form_ids), return_inverse=True)
+        out["form_ids"] = ids.astype(np.int64)
+        if polyhedron.form_labels is not None:
+            labels = tuple(polyhedron.form_labels)
+            out["form_labels"] = tuple(
+                labels[int(k)].replace(" ", "") if int(k) < len(labels) else f"form{int(k)}"
+                for k in kept
+            )
     return out
 
 

@@ -600,3 +600,20 @@ def test_every_bundled_structure_carves_to_its_formula(name: str) -> None:
         expected = per_cell * volume / crystal.volume
         assert counts[str(element)] == pytest.approx(expected, rel=0.03), element
     assert np.min(np.linalg.norm(p.positions, axis=1)) < 1e-9
+
+
+def test_a_wulff_polyhedron_can_be_carved_directly() -> None:
+    # a Wulff polyhedron of copper ({111} : {100} = 1 : 1.1, invented for the test):
+    # carving its faces gives the same particle as carving the raw planes
+    from habit.crystal import load_crystal
+    from habit.particle import crystal_planes, polyhedron_planes
+    from habit.wulff import wulff_shape
+
+    copper = load_crystal("copper")
+    shape = wulff_shape(copper, {"111": 1.0, "100": 1.1})
+    kw = polyhedron_planes(shape.polyhedron)
+    a = make_particle(copper.structure, **kw, diameter=25.0)
+    planes = crystal_planes(copper, {"111": 1.0, "100": 1.1})
+    b = make_particle(**planes, diameter=25.0)
+    assert _classes(a) == _classes(b)
+    assert set(a.summary()["facet_atoms_by_form"]) == {"{111}", "{100}"}
