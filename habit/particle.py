@@ -1118,8 +1118,8 @@ def make_particle(
         d_use = d
         shape_volume = geom.volume
     elif atoms is not None:
-        if int(atoms) != atoms or atoms < 1:
-            raise InputError(f"the number of atoms must be a whole number >= 1, got {atoms}.")
+        if int(atoms) != atoms or atoms < 2:
+            raise InputError(f"the number of atoms must be a whole number >= 2, got {atoms}.")
         target = int(atoms)
         # the expected volume plus one neighbour shell of margin; enlarged if too small
         nn = float(np.max(first_shells(lat, frac, shell_width=shell_width).nearest))
@@ -1141,10 +1141,10 @@ def make_particle(
             if above > 0 and sa < s_try * (1 - 1e-6):
                 break
             s_try *= 1.25
-        # ties go to the larger particle
-        use_above = above > 0 and (below == 0 or above - target <= target - below)
+        # ties go to the larger particle; a lone atom (scale 0) is not a particle
+        use_above = above > 0 and (below < 2 or above - target <= target - below)
         scale = sa if use_above else sb
-        if below == 0 and not use_above:
+        if below < 2 and not use_above:
             raise InputError(f"no particle with about {target} atoms could be made.")
         size_note = {
             "requested_atoms": target,

@@ -412,7 +412,7 @@ def test_centre_on_another_element() -> None:
         ({"diameter": 20.0, "centre": [1.5, 0, 0]}, InputError, "outside the cell"),
         ({"diameter": 20.0, "centre": "1,2"}, InputError, "three"),
         ({"diameter": 20.0, "edge": 5.0}, InputError, "one size"),
-        ({"atoms": 0}, InputError, "whole number"),
+        ({"atoms": 1}, InputError, "whole number"),
         ({"shells": 2}, InputError, "layer spacing"),
         ({"diameter": -3.0}, InputError, "positive"),
     ],
