@@ -617,3 +617,19 @@ def test_a_wulff_polyhedron_can_be_carved_directly() -> None:
     b = make_particle(**planes, diameter=25.0)
     assert _classes(a) == _classes(b)
     assert set(a.summary()["facet_atoms_by_form"]) == {"{111}", "{100}"}
+
+
+def test_extxyz_reads_back_with_pymatgen() -> None:
+    # an independent reader (pymatgen.io.xyz, a general-purpose library) sees the same
+    # atoms: count, species and geometry to the 1e-6 Å printed
+    from pymatgen.io.xyz import XYZ
+
+    mgo = Structure.from_spacegroup(
+        "Fm-3m", Lattice.cubic(4.212), ["Mg", "O"], [[0, 0, 0], [0.5, 0.5, 0.5]]
+    )
+    p = make_particle(mgo, CUBOCT, np.r_[np.full(8, 1.0), np.full(6, 0.9)], diameter=18.0)
+    molecule = XYZ.from_str(format_extxyz(p)).molecule
+    assert len(molecule) == p.n_atoms
+    assert [str(sp) for sp in molecule.species] == p.species.tolist()
+    shifted = molecule.cart_coords - p.positions
+    assert np.allclose(shifted, shifted[0], atol=2e-6)
