@@ -147,8 +147,10 @@ class BondSet:
     def pair_table(self) -> dict[tuple[str, str], tuple[int, float, float]]:
         """Per element pair: (bonds per cell, shortest length Å, longest length Å)."""
         out: dict[tuple[str, str], tuple[int, float, float]] = {}
-        pairs = [parse_pair((self.species[i], self.species[j]))
-                 for i, j in zip(self.start, self.end, strict=True)]
+        pairs = [
+            parse_pair((self.species[i], self.species[j]))
+            for i, j in zip(self.start, self.end, strict=True)
+        ]
         for key in sorted(set(pairs)):
             mask = np.array([p == key for p in pairs])
             out[key] = (
@@ -169,7 +171,9 @@ def _site_symbols(structure: Any) -> tuple[str, ...]:
     return tuple(out)
 
 
-def _neighbour_list(structure: Any, radius: float) -> tuple[IntArray, IntArray, IntArray, FloatArray]:
+def _neighbour_list(
+    structure: Any, radius: float
+) -> tuple[IntArray, IntArray, IntArray, FloatArray]:
     centres, points, images, dists = structure.get_neighbor_list(radius)
     keep = dists > 1e-6  # an atom is not bonded to itself or to a copy on top of it
     return (
@@ -267,7 +271,7 @@ def find_bonds(
     >>> find_bonds(xtal, cutoff=2.0)
     Traceback (most recent call last):
     ...
-    habit.errors.InputError: a cutoff of 2 Å bonds no atoms in copper (the shortest distance is 2.556 Å); give a larger cutoff.
+    habit.errors.InputError: a cutoff of 2 Å bonds no atoms in copper (... 2.556 Å); ...
     """
     structure = crystal.structure
     name = crystal.name or "this crystal"
@@ -304,7 +308,10 @@ def find_bonds(
             raise InputError("give at least one pair cutoff, e.g. Ca-F=2.6.")
         c, p, im, d = _neighbour_list(structure, max(table.values()))
         limit = np.array(
-            [table.get(parse_pair((symbols[i], symbols[j])), -1.0) for i, j in zip(c, p, strict=True)]
+            [
+                table.get(parse_pair((symbols[i], symbols[j])), -1.0)
+                for i, j in zip(c, p, strict=True)
+            ]
         )
         keep = d <= limit
         c, p, im, d = c[keep], p[keep], im[keep], d[keep]
@@ -320,8 +327,9 @@ def find_bonds(
         energies = np.ones(len(c))
         unit = "relative"
     else:
-        etable = {parse_pair(k): _positive(v, f"the bond energy of {k}")
-                  for k, v in bond_energies.items()}
+        etable = {
+            parse_pair(k): _positive(v, f"the bond energy of {k}") for k, v in bond_energies.items()
+        }
         missing = sorted({pr for pr in pairs if pr not in etable})
         if missing:
             names = ", ".join(f"{a}-{b}" for a, b in missing)
@@ -462,8 +470,9 @@ def scan_cuts(bonds: BondSet, hkl: Any, *, layer_tol: float = LAYER_TOL) -> CutS
     )
 
 
-def _layer_composition(site_t: FloatArray, level: float, gap_tol: float,
-                       species: tuple[str, ...]) -> str:
+def _layer_composition(
+    site_t: FloatArray, level: float, gap_tol: float, species: tuple[str, ...]
+) -> str:
     diff = np.abs(((site_t - level) + 0.5) % 1.0 - 0.5)
     counts = Counter(species[i] for i in np.nonzero(diff <= gap_tol)[0])
     return " ".join(f"{el}{n if n > 1 else ''}" for el, n in sorted(counts.items()))
@@ -511,7 +520,7 @@ class Termination:
 def surface_termination(
     bonds: BondSet, hkl: Any, *, label: str | None = None, layer_tol: float = LAYER_TOL
 ) -> Termination:
-    """The termination of (hkl) that breaks the least bond energy per unit area.
+    """Find the termination of (hkl) that breaks the least bond energy per unit area.
 
     Parameters
     ----------
@@ -586,7 +595,7 @@ class BrokenBondResult:
         return {t.hkl: t.energy for t in self.terminations}
 
     def wulff(self, *, tol: Tolerances = DEFAULT) -> Any:
-        """The Wulff shape of these energies (:func:`habit.wulff.wulff_shape`).
+        """Build the Wulff shape of these energies (:func:`habit.wulff.wulff_shape`).
 
         Raises
         ------
@@ -651,7 +660,10 @@ def broken_bond_energies(
     from habit.morphology import form_representatives
 
     bonds = find_bonds(
-        crystal, cutoff=cutoff, shells=shells, pair_cutoffs=pair_cutoffs,
+        crystal,
+        cutoff=cutoff,
+        shells=shells,
+        pair_cutoffs=pair_cutoffs,
         bond_energies=bond_energies,
     )
     if forms is None:
@@ -661,8 +673,9 @@ def broken_bond_energies(
     terms = []
     for i, hkl in enumerate(reps):
         terms.append(
-            surface_termination(bonds, hkl, label=crystal.format_face(hkl, "{}"),
-                                layer_tol=layer_tol)
+            surface_termination(
+                bonds, hkl, label=crystal.format_face(hkl, "{}"), layer_tol=layer_tol
+            )
         )
         if progress is not None:
             progress(i + 1)

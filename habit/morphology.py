@@ -79,7 +79,7 @@ def _face_scores(faces: IntArray, bound: int) -> IntArray:
 
 
 def representative_faces(hkl: Any, operations: Any) -> IntArray:
-    """The representative face of the form of each face, under a crystal class.
+    """Return the representative face of the form of each face, under a crystal class.
 
     Parameters
     ----------
@@ -167,7 +167,7 @@ def _check_max_index(max_index: Any) -> int:
 
 
 def first_allowed_orders(crystal: Crystal, hkl: Any, max_order: int = MAX_ORDER) -> IntArray:
-    """The smallest n >= 1 with reflection n(hkl) allowed by the space group.
+    """Return the smallest n >= 1 with reflection n(hkl) allowed by the space group.
 
     Parameters
     ----------
@@ -346,11 +346,11 @@ def bfdh(
     >>> iron = Crystal.from_cell(2.8665, space_group='Im-3m', name='alpha-iron')
     >>> result = bfdh(iron, 1)
     >>> [(f.label, f.order, round(f.d_eff, 3)) for f in result.forms]
-    [('{110}', 1, 2.027), ('{100}', 2, 1.433), ('{111}', 2, 0.828)]
+    [('{110}', 1, 2.027), ('{100}', 2, 1.433), ('{111}', 2, 0.827)]
     >>> bfdh(Crystal.from_cell(2.8665, crystal_class='m-3m'))
     Traceback (most recent call last):
     ...
-    habit.errors.InputError: this crystal has no space group, which the Donnay–Harker orders need; give a CIF or a space group (or ask for the plain Bravais rule).
+    habit.errors.InputError: this crystal has no space group, which the Donnay–Harker ... need; ...
     """
     from habit.wulff import wulff_shape
 
@@ -372,8 +372,9 @@ def bfdh(
     ranks = _competition_ranks(d_eff)
     distances = d_eff[0] / d_eff  # (F,) central distance, 1 for the first form
     hkls = [tuple(int(x) for x in h) for h in reps]
-    shape = wulff_shape(crystal, list(zip(hkls, distances.tolist(), strict=True)),
-                        kind="distance", tol=tol)
+    shape = wulff_shape(
+        crystal, list(zip(hkls, distances.tolist(), strict=True)), kind="distance", tol=tol
+    )
     if progress is not None:
         progress(3)
     forms = []
