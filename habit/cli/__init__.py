@@ -23,6 +23,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
     "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
     "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
+    "bfdh": ("habit.cli.bfdh", "Rank forms by the BFDH rule (d_eff in Å) and draw the habit."),
+    "bonds": ("habit.cli.bonds", "Broken-bond surface energies of a structure; their Wulff shape."),
 }
 
 
