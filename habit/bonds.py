@@ -624,6 +624,7 @@ def broken_bond_energies(
     pair_cutoffs: Mapping[Any, float] | None = None,
     bond_energies: Mapping[Any, float] | None = None,
     forms: Any = None,
+    bonds: BondSet | None = None,
     layer_tol: float = LAYER_TOL,
     progress: Callable[[int], None] | None = None,
 ) -> BrokenBondResult:
@@ -639,6 +640,8 @@ def broken_bond_energies(
         The bond rule and energies (see :func:`find_bonds`).
     forms : sequence of (3,) int, optional
         Faces to use instead of every form up to ``max_index``.
+    bonds : BondSet, optional
+        Bonds found already (then the bond rule arguments are not used).
     layer_tol : float
         Å; atoms closer than this along the normal make one layer.
     progress : callable, optional
@@ -659,7 +662,7 @@ def broken_bond_energies(
     """
     from habit.morphology import form_representatives
 
-    bonds = find_bonds(
+    bonds = bonds or find_bonds(
         crystal,
         cutoff=cutoff,
         shells=shells,

@@ -116,7 +116,10 @@ def command(
     bond energy per unit area is found by trying every distinct cut position; its energy
     per area, shared by the two surfaces the cut makes, is the form's surface energy.
     """
-    from habit.bonds import broken_bond_energies
+    import contextlib
+    import sys
+
+    from habit.bonds import broken_bond_energies, find_bonds
     from habit.cli._common import crystal_header, crystal_json, progress_bar, write_json
     from habit.cli.wulff import _check_outputs
     from habit.crystal import load_crystal
@@ -126,17 +129,13 @@ def command(
     xtal = load_crystal(crystal)
     pairs = _pair_values(pair_cutoffs, "--pair-cutoff", "Å") if pair_cutoffs else None
     energies = _pair_values(bond_energies, "--bond-energy", "eV") if bond_energies else None
+    bonds = find_bonds(
+        xtal, cutoff=cutoff, shells=shells, pair_cutoffs=pairs, bond_energies=energies
+    )
     n_forms = len(form_representatives(xtal, max_index))
-    with progress_bar(n_forms, "surfaces") as update:
-        result = broken_bond_energies(
-            xtal,
-            max_index,
-            cutoff=cutoff,
-            shells=shells,
-            pair_cutoffs=pairs,
-            bond_energies=energies,
-            progress=update,
-        )
+    bar = progress_bar(n_forms, "surfaces") if sys.stderr.isatty() else contextlib.nullcontext(None)
+    with bar as update:
+        result = broken_bond_energies(xtal, max_index, bonds=bonds, progress=update)
     report = {"crystal": crystal_json(xtal), **bonds_report(result)}
     shape = None
     if with_wulff or plot_path:
