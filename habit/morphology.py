@@ -185,7 +185,9 @@ def first_allowed_orders(crystal: Crystal, hkl: Any, max_order: int = MAX_ORDER)
     Raises
     ------
     InputError
-        If the crystal has no space group, or no order up to ``max_order`` is allowed.
+        If the crystal has no space group.
+    InvalidMillerIndexError
+        If no order up to ``max_order`` is allowed.
 
     Examples
     --------
@@ -199,17 +201,11 @@ def first_allowed_orders(crystal: Crystal, hkl: Any, max_order: int = MAX_ORDER)
             f"{crystal.name or 'this crystal'} has no space group, which the Donnay–Harker "
             "orders need; give a CIF or a space group (or ask for the plain Bravais rule)."
         )
-    orders = np.arange(1, max_order + 1)
-    multiples = orders[None, :, None] * faces[:, None, :]  # (M, n, 3)
-    absent = np.asarray(crystal.is_absent(multiples), dtype=bool)  # (M, n)
-    allowed = ~absent
-    if not np.all(allowed.any(axis=1)):
-        bad = faces[~allowed.any(axis=1)][0]
-        raise InputError(
-            f"every order of ({' '.join(str(int(x)) for x in bad)}) up to {max_order} is "
-            "absent in this space group; check the space group."
-        )
-    out: IntArray = orders[np.argmax(allowed, axis=1)]
+    from habit.symmetry import first_allowed_order
+
+    out: IntArray = np.asarray(
+        first_allowed_order(faces, crystal.space_group, max_order), dtype=np.int64
+    ).reshape(-1)
     return out
 
 
