@@ -223,3 +223,25 @@ def test_bad_bond_input_is_one_clear_sentence(kwargs, message):
     with pytest.raises(InputError, match=message) as info:
         find_bonds(samples.fluorite(), **kwargs)
     assert str(info.value).endswith(".")
+
+
+def test_rutile_110_is_the_lowest_and_breaks_two_bonds_per_cell():
+    # Bundled rutile (P4_2/mnm) with Ti–O bonds (1.95–1.98 Å; cutoff 2.2 Å). The
+    # stoichiometric (110) surface keeps bridging O rows: per surface cell (a√2 × c) one
+    # five-fold Ti and one two-fold bridging O, i.e. 2 broken Ti–O bonds (Diebold 2003,
+    # Surf. Sci. Rep. 48, 53, from memory). Order of broken-bond energies
+    # (110) < (100) < (101) < (001), as in the first-principles surface energies of
+    # Ramamoorthy, Vanderbilt & King-Smith 1994, Phys. Rev. B 49, 16721 (from memory).
+    from habit.crystal import load_crystal
+
+    rutile = load_crystal("rutile")
+    result = broken_bond_energies(rutile, 1, pair_cutoffs={"Ti-O": 2.2})
+    terms = {t.hkl: t for t in result.terminations}
+    assert result.terminations[0].hkl == (1, 1, 0)
+    g = {h: t.energy for h, t in terms.items()}
+    assert g[(1, 1, 0)] < g[(1, 0, 0)] < g[(1, 0, 1)] < g[(0, 0, 1)]
+    a, _, c = rutile.cell[:3]
+    assert terms[(1, 1, 0)].broken_bonds_per_area == pytest.approx(
+        2 / (a * math.sqrt(2) * c), rel=1e-9
+    )
+    assert terms[(1, 1, 0)].layer_above == "O"  # the bridging-oxygen row is outermost

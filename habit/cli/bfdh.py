@@ -45,23 +45,25 @@ def bfdh_report(result: Any) -> dict[str, Any]:
 
 
 def draw_and_export(poly: Any, title: str, plot_path: str | None, export_path: str | None) -> None:
-    """Write the plot and the mesh of a polyhedron, if asked."""
-    from habit.errors import InputError
+    """Write the plot (.png/.svg/.pdf) and the mesh (.stl/.obj/.json) of a polyhedron."""
+    from pathlib import Path
 
     if plot_path:
-        try:
-            from habit.plot import save_figure
-            from habit.plot.shape import plot_shape
-        except ImportError:
-            raise InputError("--plot is not available: this build has no shape plotting.") from None
-        artists = plot_shape(poly, title=title)
-        save_figure(artists[0].figure, plot_path)
+        from habit.plot.shape import plot_polyhedron, save_figure
+
+        artists = plot_polyhedron(poly)
+        figure = artists.faces.axes.figure
+        figure.suptitle(title)
+        save_figure(figure, plot_path)
     if export_path:
-        try:
-            from habit import io
-        except ImportError:
-            raise InputError("--export is not available: this build has no mesh writer.") from None
-        io.write_mesh(poly, export_path)
+        from habit import io
+
+        writer = {
+            ".stl": io.write_stl,
+            ".obj": io.write_obj,
+            ".json": io.write_polyhedron_json,
+        }[Path(export_path).suffix.lower()]
+        writer(poly, export_path)
 
 
 @click.command("bfdh")

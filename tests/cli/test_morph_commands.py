@@ -134,3 +134,21 @@ def test_wulff_on_a_substrate(runner):
     assert past.exit_code == 1 and "past full wetting" in past.output
     alone = runner.invoke(main, [*args, "--adhesion", "0.5"])
     assert alone.exit_code == 1 and "need --substrate" in alone.output
+
+
+def test_bfdh_plot_and_export_are_written(runner, tmp_path):
+    png, stl = tmp_path / "habit.png", tmp_path / "habit.stl"
+    result = runner.invoke(
+        main, ["bfdh", *QUARTZ_INLINE, "--max-index", "1", "--plot", str(png), "--export", str(stl)]
+    )
+    assert result.exit_code == 0, result.output
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (PNG standard)
+    data = stl.read_bytes()  # binary STL: 80-byte header, uint32 count, 50 bytes a triangle
+    n_triangles = int.from_bytes(data[80:84], "little")
+    assert n_triangles >= 18 and len(data) == 84 + 50 * n_triangles  # 18 faces at least
+
+
+def test_bfdh_refuses_an_unknown_plot_suffix_before_work(runner, tmp_path):
+    result = runner.invoke(main, ["bfdh", *IRON_INLINE, "--plot", str(tmp_path / "x.gif")])
+    assert result.exit_code == 1 and "--plot writes .png, .svg or .pdf" in result.output
+    assert list(tmp_path.iterdir()) == []
