@@ -36,7 +36,10 @@ References
    J. Phys. Chem. Solids 23, 185–196 (1962) (from memory).
 .. [2] P. W. Tasker, "The stability of ionic crystal surfaces", J. Phys. C: Solid State
    Phys. 12, 4977–4984 (1979) (from memory).
-.. [3] P. Hartman and W. G. Perdok, "On the relations between structure and morphology
+.. [3] E. Dowty, "Crystal structure and crystal growth: I. The influence of internal
+   structure on morphology", Am. Mineral. 61, 448–459 (1976): the surface of least
+   bonding is the exposed surface.
+.. [4] P. Hartman and W. G. Perdok, "On the relations between structure and morphology
    of crystals. I", Acta Cryst. 8, 49–52 (1955) (bonds across a slice; from memory).
 """
 
