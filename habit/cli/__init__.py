@@ -21,8 +21,13 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "angles": ("habit.cli.angles", "Interfacial angles between faces (degrees and minutes)."),
     "crystal": ("habit.cli.crystal", "Describe a crystal; show its conventional setting."),
     "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
-    "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
+    "wulff": (
+        "habit.cli.wulff",
+        "Wulff shape, kinetic shape or habit drawing, with its form table.",
+    ),
     "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
+    "dual": ("habit.cli.dual", "Dual polyhedron by polar reciprocation."),
+    "pack": ("habit.cli.pack", "Densest lattice (and double-lattice) packing of a shape."),
     "bfdh": ("habit.cli.bfdh", "Rank forms by the BFDH rule (d_eff in Å) and draw the habit."),
     "bonds": ("habit.cli.bonds", "Broken-bond surface energies of a structure; their Wulff shape."),
 }
