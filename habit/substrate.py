@@ -165,6 +165,19 @@ class SupportedParticle:
     normal: FloatArray
 
     @property
+    def crystal(self) -> Any:
+        """The crystal of the free shape."""
+        return self.free.crystal
+
+    def shape_name(self) -> str:
+        """Describe the particle in words, e.g. 'Winterbottom shape on (111)'."""
+        if self.regime == "film":
+            return f"film on {self.substrate_label}"
+        if self.regime == "free":
+            return f"free Wulff shape resting on {self.substrate_label}"
+        return f"Winterbottom shape on {self.substrate_label}"
+
+    @property
     def interface_fraction(self) -> float:
         """Share of the whole surface that is interface, 0–1 (nan for a film)."""
         return self.forms[-1].area_fraction

@@ -46,8 +46,6 @@ def bfdh_report(result: Any) -> dict[str, Any]:
 
 def draw_and_export(poly: Any, title: str, plot_path: str | None, export_path: str | None) -> None:
     """Write the plot (.png/.svg/.pdf) and the mesh (.stl/.obj/.json) of a polyhedron."""
-    from pathlib import Path
-
     if plot_path:
         from habit.plot.shape import plot_polyhedron, save_figure
 
@@ -56,14 +54,9 @@ def draw_and_export(poly: Any, title: str, plot_path: str | None, export_path: s
         figure.suptitle(title)
         save_figure(figure, plot_path)
     if export_path:
-        from habit import io
+        from habit.cli.wulff import write_solid
 
-        writer = {
-            ".stl": io.write_stl,
-            ".obj": io.write_obj,
-            ".json": io.write_polyhedron_json,
-        }[Path(export_path).suffix.lower()]
-        writer(poly, export_path)
+        write_solid(poly, export_path)
 
 
 @click.command("bfdh")

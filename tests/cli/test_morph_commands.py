@@ -9,6 +9,7 @@ import pytest
 from pymatgen.io.cif import CifWriter
 
 from habit.cli import main
+from habit.crystal import Crystal
 from tests import morph_samples as samples
 
 IRON_INLINE = ["--cell", "2.8665,2.8665,2.8665,90,90,90", "--space-group", "Im-3m"]
@@ -152,3 +153,36 @@ def test_bfdh_refuses_an_unknown_plot_suffix_before_work(runner, tmp_path):
     result = runner.invoke(main, ["bfdh", *IRON_INLINE, "--plot", str(tmp_path / "x.gif")])
     assert result.exit_code == 1 and "--plot writes .png, .svg or .pdf" in result.output
     assert list(tmp_path.iterdir()) == []
+
+
+def test_wulff_on_a_substrate_draws_and_exports_the_cut_shape(runner, tmp_path):
+    png, obj = tmp_path / "particle.png", tmp_path / "particle.obj"
+    args = ["wulff", *CUBIC_INLINE, "--form", "111=1.0", "--form", "100=1.1"]
+    result = runner.invoke(
+        main,
+        [
+            *args,
+            "--substrate",
+            "111",
+            "--adhesion",
+            "1.0",
+            "--plot",
+            str(png),
+            "--export",
+            str(obj),
+        ],
+    )
+    assert result.exit_code == 0, result.output
+    assert png.read_bytes()[:4] == b"\x89PNG"
+    # the exported solid is the cut one (its face count), not the free one (14 faces)
+    from habit.substrate import winterbottom_shape
+    from habit.wulff import wulff_shape
+
+    free = wulff_shape(Crystal.from_cell(4.08, crystal_class="m-3m"), {"111": 1.0, "100": 1.1})
+    cut = winterbottom_shape(free, "111", adhesion=1.0).polyhedron
+    assert obj.read_text().count("\nf ") == cut.n_faces != free.polyhedron.n_faces
+    film = runner.invoke(
+        main, [*args, "--substrate", "111", "--adhesion", "2.0", "--plot", str(tmp_path / "f.png")]
+    )
+    assert film.exit_code == 1 and "a film has no particle shape" in film.output
+    assert not (tmp_path / "f.png").exists()
