@@ -15,6 +15,9 @@ __version__ = "0.1.0"
 _PUBLIC: dict[str, str] = {
     "HabitError": "habit.errors",
     "Tolerances": "habit.tolerances",
+    "bfdh": "habit.morphology",
+    "broken_bond_energies": "habit.bonds",
+    "winterbottom_shape": "habit.substrate",
 }
 
 __all__ = sorted(_PUBLIC)

@@ -73,9 +73,10 @@ def _face_scores(faces: IntArray, bound: int) -> IntArray:
     base = 2 * bound + 1
     shifted = faces + bound  # all entries in [0, 2*bound]
     negatives = np.sum(faces < 0, axis=-1)
-    return (  # (...,)
+    score: IntArray = (  # (...,)
         ((3 - negatives) * base + shifted[..., 0]) * base + shifted[..., 1]
     ) * base + shifted[..., 2]
+    return score
 
 
 def representative_faces(hkl: Any, operations: Any) -> IntArray:
@@ -107,7 +108,8 @@ def representative_faces(hkl: Any, operations: Any) -> IntArray:
     images = np.einsum("mj,gjk->mgk", faces, ops)  # (M, G, 3)
     bound = int(np.abs(images).max(initial=0))
     best = np.argmax(_face_scores(images, bound), axis=1)  # (M,)
-    return images[np.arange(len(faces)), best]  # (M, 3)
+    out: IntArray = images[np.arange(len(faces)), best]  # (M, 3)
+    return out
 
 
 def form_representatives(crystal: Crystal, max_index: int) -> IntArray:

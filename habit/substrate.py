@@ -396,7 +396,7 @@ def winterbottom_shape(
         face_labels=face_labels,
         tol=tol,
     ).translated(centre)
-    areas = np.bincount(cut.form_ids, weights=cut.face_areas, minlength=n_forms + 1)
+    areas = np.bincount(np.asarray(cut.form_ids), weights=cut.face_areas, minlength=n_forms + 1)
     total = float(areas.sum())
     forms = tuple(
         SupportedForm(

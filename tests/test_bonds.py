@@ -245,3 +245,11 @@ def test_rutile_110_is_the_lowest_and_breaks_two_bonds_per_cell():
         2 / (a * math.sqrt(2) * c), rel=1e-9
     )
     assert terms[(1, 1, 0)].layer_above == "O"  # the bridging-oxygen row is outermost
+
+
+def test_bond_sets_are_read_only():
+    bonds = find_bonds(samples.copper())
+    with pytest.raises(ValueError):
+        bonds.energies[0] = 2.0
+    with pytest.raises(AttributeError):
+        bonds.rule = "other"

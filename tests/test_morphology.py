@@ -232,3 +232,13 @@ def test_no_space_group_is_one_clear_sentence():
     with pytest.raises(HabitError, match="has no space group") as info:
         bfdh(Crystal.from_cell(4.0, crystal_class="m-3m"))
     assert str(info.value).count(".") == 1 and str(info.value).endswith(".")
+
+
+def test_results_are_frozen_and_reachable_from_the_package():
+    import habit
+
+    result = habit.bfdh(samples.iron(), 1)
+    with pytest.raises(AttributeError):
+        result.forms[0].d_eff = 3.0
+    with pytest.raises(AttributeError):
+        result.max_index = 3

@@ -199,3 +199,11 @@ def test_substrate_face_outside_the_forms_and_non_energy_shapes_are_refused():
     drawn = wulff_shape(CUBIC, GAMMA, kind="distance")
     with pytest.raises(InputError, match="needs a Wulff shape built from surface energies"):
         winterbottom_shape(drawn, "111", adhesion=0.5)
+
+
+def test_results_are_frozen():
+    p = winterbottom_shape(_free(), "111", adhesion=0.5)
+    with pytest.raises(AttributeError):
+        p.height = 2.0
+    with pytest.raises(ValueError):
+        p.normal[0] = 1.0  # read-only array
