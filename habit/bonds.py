@@ -448,7 +448,8 @@ def scan_cuts(bonds: BondSet, hkl: Any, *, layer_tol: float = LAYER_TOL) -> CutS
     gap_tol = layer_tol / d
     new = np.concatenate([[True], np.diff(tau) > gap_tol])
     layer_of_sorted = np.cumsum(new) - 1
-    layers = np.array([tau[layer_of_sorted == k].mean() for k in range(layer_of_sorted[-1] + 1)])
+    counts = np.bincount(layer_of_sorted)  # atoms per layer
+    layers = np.bincount(layer_of_sorted, weights=tau) / counts  # (L,) mean height
     if len(layers) > 1 and (layers[0] + 1.0 - tau[-1]) <= gap_tol:
         # the top layer wraps onto the bottom one
         layers = layers[:-1]
