@@ -242,3 +242,30 @@ def test_results_are_frozen_and_reachable_from_the_package():
         result.forms[0].d_eff = 3.0
     with pytest.raises(AttributeError):
         result.max_index = 3
+
+
+@pytest.mark.parametrize("group", ["P2_1/c", "Pnma", "C2/c"])
+def test_orders_follow_the_users_cell(group):
+    # The same crystal described with its axes cycled, (a', b', c') = (c, a, b): the face
+    # (hkl) becomes (l h k) and must keep its order n and d_eff (reflection conditions
+    # come from the operations in the user's cell, not from the group's name).
+    lattice = {
+        "P2_1/c": Lattice.monoclinic(5.0, 6.0, 7.0, 100.0),
+        "Pnma": Lattice.orthorhombic(5.0, 6.0, 7.0),
+        "C2/c": Lattice.monoclinic(9.0, 6.0, 5.0, 105.0),
+    }[group]
+    frac = _orbit(group, np.array([0.13, 0.27, 0.41]))
+    s = Structure(lattice, ["Si"] * len(frac), frac)
+    a, b, c = lattice.matrix
+    cycled = Structure(Lattice(np.array([c, a, b])), ["Si"] * len(frac), frac[:, [2, 0, 1]])
+    one = bfdh(Crystal.from_structure(s), 2)
+    two = {f.hkl: f for f in bfdh(Crystal.from_structure(cycled), 2).forms}
+    members = Crystal.from_structure(cycled)
+    for f in one.forms:
+        h, k, l = f.hkl  # noqa: E741
+        rep = tuple(
+            int(x) for x in representative_faces([[l, h, k]], members.point_group.operations)[0]
+        )
+        g = two[rep]
+        assert g.order == f.order, f.hkl
+        assert g.d_eff == pytest.approx(f.d_eff, abs=1e-9)

@@ -207,3 +207,17 @@ def test_results_are_frozen():
         p.height = 2.0
     with pytest.raises(ValueError):
         p.normal[0] = 1.0  # read-only array
+
+
+@settings(max_examples=25, deadline=None)
+@given(b1=st.floats(0.0, 1.95), b2=st.floats(0.0, 1.95))
+def test_more_adhesion_gives_a_flatter_smaller_particle(b1, b2):
+    # h_int decreases with β, so the cut removes more: volume and height never grow
+    # (the cut shapes are nested); exact monotonicity up to 1e-12 relative.
+    lo, hi = sorted((b1, b2))
+    free = _free()
+    p_lo = winterbottom_shape(free, "100", adhesion=lo * GAMMA["100"])
+    p_hi = winterbottom_shape(free, "100", adhesion=hi * GAMMA["100"])
+    assert p_hi.volume <= p_lo.volume * (1 + 1e-12)
+    assert p_hi.height <= p_lo.height * (1 + 1e-12) + 1e-12
+    assert p_lo.volume <= float(free.polyhedron.volume) * (1 + 1e-12)
