@@ -17,7 +17,8 @@ Limiting cases:
 
 * β = 0 — the interface costs as much as the two free surfaces it replaces: the particle
   is its free Wulff shape, sitting on its own (hkl) facet (h_int = h_free). If (hkl) is
-  not a facet of the free shape the contact is an edge or a corner (contact area 0).
+  not a facet of the free shape the contact is an edge or a corner (contact area 0), and
+  stays so while h_int is beyond the shape's extent h_W(n) along the normal.
 * 0 < β < β_wet — a truncated shape; the interface is a face of area > 0.
 * β = β_wet — the particle has spread into a film (zero height). β_wet is reached when
   the interface plane reaches the far side of the free shape,
@@ -115,8 +116,10 @@ class SupportedParticle:
         The particle's face parallel to the substrate (outward normal into the substrate).
     substrate_label : str
     regime : str
-        ``'free'`` (β = 0: the free shape on its own facet), ``'supported'``
-        (0 < β < β_wet) or ``'film'`` (β = β_wet).
+        ``'free'`` (the plane does not cut the free shape: β = 0, the shape resting on its
+        own facet, or a small β when (hkl) is not a facet, the shape touching on an edge
+        or corner), ``'supported'`` (the interface is a face of area > 0) or ``'film'``
+        (β = β_wet).
     facet_energy : float
         γ_facet, J/m².
     adhesion : float

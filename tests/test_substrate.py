@@ -221,3 +221,19 @@ def test_more_adhesion_gives_a_flatter_smaller_particle(b1, b2):
     assert p_hi.volume <= p_lo.volume * (1 + 1e-12)
     assert p_hi.height <= p_lo.height * (1 + 1e-12) + 1e-12
     assert p_lo.volume <= float(free.polyhedron.volume) * (1 + 1e-12)
+
+
+def test_a_face_that_is_not_a_facet_touches_until_the_plane_cuts():
+    # {110} at 1.5 is not on the {111}+{100} shape; the shape's extent along [110] is
+    # h_W = max over vertices of n.v. Contact area 0 while h_int >= h_W, > 0 below it;
+    # and β_wet = γ(1 + h_W(-n)/h_free) < 2γ because h_W(-n) = h_W < h_free (closed
+    # form of the film condition h_int = -h_W(-n)).
+    free = _free({"111": 1.0, "100": 1.1, "110": 1.5})
+    n = np.array([1.0, 1.0, 0.0]) / math.sqrt(2)
+    h_w = float((free.polyhedron.vertices @ n).max())
+    beta_touch = 1.5 * (1 - h_w / 1.5)  # β at which h_int = h_W
+    assert winterbottom_shape(free, "110", adhesion=0.9 * beta_touch).contact_area == 0.0
+    assert winterbottom_shape(free, "110", adhesion=1.1 * beta_touch).contact_area > 0.0
+    p = winterbottom_shape(free, "110", adhesion=1.0)
+    assert p.wetting_adhesion == pytest.approx(1.5 * (1 + h_w / 1.5), rel=1e-12)
+    assert p.wetting_adhesion < 2 * 1.5
