@@ -201,7 +201,8 @@ def first_allowed_orders(crystal: Crystal, hkl: Any, max_order: int = MAX_ORDER)
     if crystal.space_group is None:
         raise InputError(
             f"{crystal.name or 'this crystal'} has no space group, which the Donnay–Harker "
-            "orders need; give a CIF or a space group (or ask for the plain Bravais rule)."
+            "orders need; give a CIF or a space group, or use the lattice-only rule "
+            "(--lattice-only)."
         )
     from habit.symmetry import first_allowed_order
 
