@@ -253,3 +253,22 @@ def test_bond_sets_are_read_only():
         bonds.energies[0] = 2.0
     with pytest.raises(AttributeError):
         bonds.rule = "other"
+
+
+def test_pyrite_first_shells_keep_the_disulfide_dimers():
+    # Bundled pyrite (Pa-3, a 5.417 Å, S at x = 0.3848; structures/README.md). With one
+    # shell per atom, Fe takes its 6 S and S its dimer partner, at 2√3 a (1/2 - x)
+    # (closed form for S at ±(x, x, x) about the centre (1/2, 1/2, 1/2)): 24 Fe–S and
+    # 4 S–S bonds per cell (4 FeS2). The lowest broken-bond energy is {100}, the cube
+    # pyrite commonly grows as (common practice), and its cut leaves S2 dimers whole.
+    from habit.crystal import load_crystal
+
+    pyrite = load_crystal("pyrite")
+    a = pyrite.cell[0]
+    table = find_bonds(pyrite, shells=1).pair_table()
+    assert table[("Fe", "S")][0] == 24 and table[("S", "S")][0] == 4
+    assert table[("S", "S")][1] == pytest.approx(2 * math.sqrt(3) * a * (0.5 - 0.3848), abs=1e-6)
+    result = broken_bond_energies(pyrite, 1, shells=1)
+    best = result.terminations[0]
+    assert best.hkl == (1, 0, 0)
+    assert best.layer_above == "S2" and best.layer_below == "S2"
