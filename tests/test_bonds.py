@@ -272,3 +272,13 @@ def test_pyrite_first_shells_keep_the_disulfide_dimers():
     best = result.terminations[0]
     assert best.hkl == (1, 0, 0)
     assert best.layer_above == "S2" and best.layer_below == "S2"
+    # no S–S bond crosses the best (100) cut: making S–S bonds 1000 times stronger leaves
+    # its energy unchanged (to 1e-12 relative)
+    cut = {"Fe-S": 2.3, "S-S": 2.2}
+    soft = broken_bond_energies(
+        pyrite, 1, pair_cutoffs=cut, bond_energies={"Fe-S": 1.0, "S-S": 1.0}
+    ).energies()[(1, 0, 0)]
+    hard = broken_bond_energies(
+        pyrite, 1, pair_cutoffs=cut, bond_energies={"Fe-S": 1.0, "S-S": 1000.0}
+    ).energies()[(1, 0, 0)]
+    assert hard == pytest.approx(soft, rel=1e-12)
