@@ -123,13 +123,13 @@ def _print(report: dict[str, Any], header: str) -> None:
     click.echo(f"method: {report['method']}; forms with indices within ±{report['max_index']}")
     click.echo(
         f"\n{'rank':>4}  {'form':<12}{'name':<26}{'faces':>6}{'n':>4}  {'reflection':<12}"
-        f"{'d(hkl) (Å)':>11}{'d_eff (Å)':>11}{'distance':>10}{'area (%)':>10}"
+        f"{'d(hkl) (Å)':>11}{'d_eff (Å)':>11}{'dist. (rel)':>12}{'area (%)':>10}"
     )
     for f in report["forms"]:
         click.echo(
             f"{f['rank']:>4}  {f['form']:<12}{f['name'][:25]:<26}{f['multiplicity']:>6}"
             f"{f['order']:>4}  {f['reflection']:<12}{f['d_hkl_A']:>11.4f}{f['d_eff_A']:>11.4f}"
-            f"{f['central_distance_rel']:>10.4f}{f['area_percent']:>10.2f}"
+            f"{f['central_distance_rel']:>12.4f}{f['area_percent']:>10.2f}"
         )
     s = report["shape"]
     click.echo(
