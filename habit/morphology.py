@@ -30,11 +30,12 @@ References
 .. [2] G. Friedel, "Études sur la loi de Bravais", Bull. Soc. franç. Minéral. 30,
    326–455 (1907) (from memory).
 .. [3] J. D. H. Donnay and D. Harker, "A new law of crystal morphology extending the law
-   of Bravais", Am. Mineral. 22, 446–467 (1937) (page range from memory).
+   of Bravais", Am. Mineral. 22, 446–467 (1937) (title and first page checked in a
+   stored copy; last page from memory).
 .. [4] R. Docherty, G. Clydesdale, K. J. Roberts and P. Bennema, "Application of
    Bravais–Friedel–Donnay–Harker, attachment energy and Ising models to predicting and
    understanding the morphology of molecular crystals", J. Phys. D: Appl. Phys. 24,
-   89–99 (1991).
+   89–99 (1991) (checked in a stored copy of the first page).
 """
 
 from __future__ import annotations
