@@ -18,6 +18,9 @@ _PUBLIC: dict[str, str] = {
     "Polyhedron": "habit.polyhedron",
     "symmetry_of": "habit.polysym",
     "shape_name": "habit.shapes",
+    "bfdh": "habit.morphology",
+    "broken_bond_energies": "habit.bonds",
+    "winterbottom_shape": "habit.substrate",
     "make_particle": "habit.particle",
 }
 

@@ -28,6 +28,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
     "dual": ("habit.cli.dual", "Dual polyhedron by polar reciprocation."),
     "pack": ("habit.cli.pack", "Densest lattice (and double-lattice) packing of a shape."),
+    "bfdh": ("habit.cli.bfdh", "Rank forms by the BFDH rule (d_eff in Å) and draw the habit."),
+    "bonds": ("habit.cli.bonds", "Broken-bond surface energies of a structure; their Wulff shape."),
     "particle": ("habit.cli.particle", "Carve a particle of atoms by a crystal's shape."),
 }
 
