@@ -10,6 +10,13 @@ import click
 from habit.cli._common import json_option
 
 SIZE_UNITS = {"diameter": "Å", "edge": "Å", "volume": "Å³", "atoms": "atoms", "shells": "shells"}
+SIZE_HEADERS = {
+    "diameter": "diameter (Å)",
+    "edge": "edge (Å)",
+    "volume": "volume (Å³)",
+    "atoms": "target atoms",
+    "shells": "shells K",
+}
 
 
 def _parse_forms(crystal: Any, texts: tuple[str, ...]) -> list[tuple[tuple[int, int, int], float]]:
@@ -71,7 +78,7 @@ def _print_particle(summary: dict[str, Any], header: str) -> None:
 
 
 def _print_series(rows: list[dict[str, Any]], kind: str, values: list[float]) -> None:
-    head = f"{kind} ({SIZE_UNITS[kind]})"
+    head = SIZE_HEADERS[kind]
     click.echo(
         f"\n{head:>16}{'atoms':>10}{'surface atoms':>15}{'dispersion':>12}{'diameter (nm)':>15}"
     )
