@@ -313,7 +313,8 @@ def lattice_rotations(cell: Sequence[float], *, tol: float = 1e-3) -> IntArray:
     g = lat @ lat.T
     scale = float(np.max(np.abs(g)))
     # (K, 3, 3): W^T G W for every candidate
-    gw = np.einsum("kji,jl,klm->kim", _ALL_W, g, _ALL_W)
+    wf = _ALL_W.astype(float)
+    gw = np.swapaxes(wf, 1, 2) @ g @ wf
     ok = np.all(np.abs(gw - g) <= tol * scale, axis=(1, 2))
     rots = _ALL_W[ok]
     ident = np.all(rots == np.eye(3, dtype=np.int64), axis=(1, 2))
@@ -824,7 +825,7 @@ def _search(
         for start in range(0, len(us), 256):
             chunk = us[start:start + 256]
             # (H, N, 3): measured normals in the crystal frame of each hypothesis
-            mc = np.einsum("hji,nj->hni", chunk, normals)
+            mc = normals @ chunk
             cos = mc @ cand_n.T  # (H, N, M)
             k = np.argmax(cos, axis=2)  # (H, N)
             res = np.arccos(np.clip(np.take_along_axis(cos, k[..., None], 2)[..., 0], -1, 1))
@@ -990,45 +991,56 @@ def index_faces(
                          f"{math.degrees(tolerance):g} degrees.")
     if int(max_index) < 1 or int(max_index) > 8:
         raise InputError(f"max_index must be between 1 and 8; got {max_index}.")
+    return _index(model, measurements, _normal_sets(measurements), max_index=max_index,
+                  tolerance=tolerance, max_pairs=max_pairs, min_fraction=min_fraction,
+                  progress=progress)
+
+
+def _normal_sets(measurements: Measurements) -> list[tuple[FloatArray, FloatArray, bool]]:
+    """Normal sets to index: the measured ones, or the embeddings of an angle table."""
     n = measurements.n_faces
     if n < 3:
         raise InputError(
             f"indexing needs at least three faces (an orientation has three unknowns and "
             f"two faces fit almost any cell); got {n}."
         )
-    cand = candidate_indices(max_index, hex_axes=_uses_hex_axes(model))
+    if measurements.kind == "interfacial-angles":
+        return [(v, np.ones(n), False) for v in embed_angle_table(measurements)]
+    assert measurements.normals is not None
+    w = np.asarray(measurements.weights, float)
+    return [(np.asarray(measurements.normals, float), w / np.mean(w), True)]
+
+
+def _index(
+    model: CellModel,
+    measurements: Measurements,
+    sets: list[tuple[FloatArray, FloatArray, bool]],
+    *,
+    max_index: int,
+    tolerance: float,
+    max_pairs: int,
+    min_fraction: float,
+    progress: Callable[[int], None] | None,
+) -> IndexingResult:
+    n = measurements.n_faces
+    hex_axes = _uses_hex_axes(model)
+    cand = candidate_indices(max_index, hex_axes=hex_axes)
     rotations = lattice_rotations(model.cell)
     need = max(3, math.ceil(min_fraction * n))
-    if measurements.kind == "interfacial-angles":
-        embeddings = embed_angle_table(measurements)
-        weights = np.ones(n)
-        tried = 0
-        results: list[IndexingResult] = []
-        for normals in embeddings:
-            hyps, t = _search(normals, weights, model, cand, rotations, tolerance, max_pairs,
-                              progress)
-            tried += t
-            for h in hyps[:1]:
-                results.append(_result_from(h.u, normals, weights, model, cand, rotations,
-                                            tolerance, measurements, tried, max_index, False))
-            if results and results[-1].n_indexed == n:
-                break
-        results.sort(key=lambda r: (-r.n_indexed, r.rms))
-        if not results or results[0].n_indexed < need:
-            raise IndexingError(_no_fit_message(results, n, tolerance, max_index), results)
-        return results[0]
-
-    assert measurements.normals is not None
-    normals = np.asarray(measurements.normals, float)
-    weights = np.asarray(measurements.weights, float)
-    weights = weights / np.mean(weights)
-    hyps, tried = _search(normals, weights, model, cand, rotations, tolerance, max_pairs,
+    tried = 0
+    results: list[IndexingResult] = []
+    for normals, weights, known in sets:
+        hyps, t = _search(normals, weights, model, cand, rotations, tolerance, max_pairs,
                           progress)
-    results = [_result_from(h.u, normals, weights, model, cand, rotations, tolerance,
-                            measurements, tried, max_index, True) for h in hyps]
-    results.sort(key=lambda r: (-r.n_indexed, int(_simplicity(r.hkl, False).sum()), r.rms))
+        tried += t
+        for h in hyps:
+            results.append(_result_from(h.u, normals, weights, model, cand, rotations,
+                                        tolerance, measurements, tried, max_index, known))
+        if results and max(r.n_indexed for r in results) == n:
+            break
+    results.sort(key=lambda r: (-r.n_indexed, int(_simplicity(r.hkl, hex_axes).sum()), r.rms))
     if not results or results[0].n_indexed < need:
-        raise IndexingError(_no_fit_message(results, n, tolerance, max_index), results)
+        raise IndexingError(_no_fit_message(results, n, tolerance, max_index), results[:3])
     return results[0]
 
 
@@ -1044,10 +1056,38 @@ def _no_fit_message(results: list[IndexingResult], n: int, tol: float, max_index
 # ------------------------------------------------------------------------- refinement
 
 
+def _result_from_indices(model: CellModel, measurements: Measurements, hkl: ArrayLike
+                         ) -> IndexingResult:
+    h = np.asarray(hkl)
+    if h.shape != (measurements.n_faces, 3) or not np.issubdtype(h.dtype, np.integer):
+        raise InputError(f"give one integer (hkl) per face: shape ({measurements.n_faces}, 3); "
+                         f"got shape {h.shape}.")
+    ok = np.any(h != 0, axis=1)
+    recip = model.reciprocal
+    orientation = None
+    res = np.zeros(len(h))
+    if measurements.normals is not None:
+        nm = np.asarray(measurements.normals, float)
+        if np.count_nonzero(ok) < 2:
+            raise InputError("at least two faces need indices to fix the orientation.")
+        cn = _normals(recip, np.where(ok[:, None], h, 1))
+        u = best_rotation(cn[ok], nm[ok], np.asarray(measurements.weights)[ok])
+        orientation = Orientation(_readonly(u), _readonly(model.lattice), model.system)
+        res = np.arccos(np.clip(np.sum((cn @ u.T) * nm, axis=1), -1, 1))
+    return IndexingResult(
+        labels=measurements.labels, hkl=_readonly(h, np.int64), indexed=_readonly(ok, bool),
+        residuals=_readonly(res), nearest_hkl=_readonly(h, np.int64),
+        rms=float(np.sqrt(np.mean(res[ok] ** 2))), orientation=orientation, crystal=model,
+        setting=_readonly(np.eye(3), np.int64), equivalent_settings=1, hypotheses=0,
+        max_index=int(np.abs(h).max()), tolerance=math.nan,
+        pairs=_readonly(measurements.pairs, np.int64),
+    )
+
+
 def refine_cell(
     crystal: Any,
     measurements: Measurements,
-    indexing: IndexingResult,
+    indexing: IndexingResult | ArrayLike,
     *,
     refine_shape: bool = True,
 ) -> CellRefinement:
@@ -1063,8 +1103,10 @@ def refine_cell(
     crystal : Crystal or CellModel
         Starting cell and the crystal system (fixes which parameters are free).
     measurements : Measurements
-    indexing : IndexingResult
-        Indices (flagged faces are left out).
+    indexing : IndexingResult or (N, 3) int array
+        Indices (flagged faces are left out), or the indices of every face given
+        directly (rows of zeros mark faces to leave out); the starting orientation is
+        then the least-squares one.
     refine_shape : bool
         False refines only the orientation.
 
@@ -1077,6 +1119,17 @@ def refine_cell(
     InputError
         If there are fewer observations than parameters.
 
+    Examples
+    --------
+    Rutile, ee′ = (101)∧(011) = 45°2′ gives c = 0.6442 (Dana, from memory):
+
+    >>> from habit.measurements import measurements_from_arrays
+    >>> m = measurements_from_arrays(pairs=[("e", "e'")], angles_deg=[45 + 2 / 60])
+    >>> start = CellModel((1, 1, 0.6, 90, 90, 90), "tetragonal")
+    >>> ref = refine_cell(start, m, [[1, 0, 1], [0, 1, 1]])
+    >>> round(float(ref.values[0]), 4)
+    0.6442
+
     References
     ----------
     .. [1] Press, W. H. et al. (2007). *Numerical Recipes*, 3rd ed., §15.5 (nonlinear
@@ -1085,6 +1138,8 @@ def refine_cell(
     from scipy.optimize import least_squares
 
     model = _as_model(crystal)
+    if not isinstance(indexing, IndexingResult):
+        indexing = _result_from_indices(model, measurements, indexing)
     names = shape_parameter_names(model) if refine_shape else ()
     x_shape = _shape_params(model) if refine_shape else np.zeros(0)
     is_angle = np.array([n.endswith("_deg") for n in names], dtype=bool)
@@ -1262,27 +1317,50 @@ def find_axial_ratios(
     if system not in SYSTEMS:
         raise UnknownSymbolError(f"unknown crystal system {system!r}; choose one of: "
                                  f"{', '.join(SYSTEMS)}.")
-    trials = _trial_models(system, step)
-    # angular change of a normal per step in ln(ratio) is at most step/2
-    search_tol = tolerance + 0.5 * step * (3 if system == "orthorhombic" else 1)
-    best: tuple[tuple[int, int, float], IndexingResult] | None = None
-    for k, trial in enumerate(trials):
-        try:
-            r = index_faces(trial, measurements, max_index=max_index, tolerance=search_tol,
-                            max_pairs=12)
-        except IndexingError:
-            r = None
-        if r is not None:
-            key = (-r.n_indexed, int(_simplicity(r.hkl, _uses_hex_axes(trial)).sum()), r.rms)
-            if best is None or key < best[0]:
-                best = (key, r)
-        if progress is not None:
-            progress(k + 1)
-    if best is None:
+    sets = _normal_sets(measurements)
+    coarse = _trial_models(system, 3.0 * step)
+    ortho = system == "orthorhombic"
+    done = 0
+
+    def run(trials: list[CellModel], widen: float
+            ) -> list[tuple[tuple[int, int, float], IndexingResult]]:
+        nonlocal done
+        out = []
+        for trial in trials:
+            try:
+                r = _index(trial, measurements, sets, max_index=max_index,
+                           tolerance=tolerance + widen, max_pairs=8, min_fraction=0.5,
+                           progress=None)
+                key = (-r.n_indexed, int(_simplicity(r.hkl, _uses_hex_axes(trial)).sum()),
+                       r.rms)
+                out.append((key, r))
+            except IndexingError:
+                pass
+            done += 1
+            if progress is not None:
+                progress(done)
+        out.sort(key=lambda t: t[0])
+        return out
+
+    # angular change of a normal per unit change of ln(ratio) is at most 1/2
+    found = run(coarse, 0.5 * 3.0 * step * (3 if ortho else 1))
+    if not found:
         raise IndexingError(
-            f"no {system} cell shape indexes the faces within "
-            f"{math.degrees(search_tol):.3g} degrees; check the system or raise the tolerance."
+            f"no {system} cell shape indexes the faces; check the system or raise the "
+            "tolerance."
         )
+    fine: list[CellModel] = []
+    for _, r in found[:3]:
+        x = _shape_params(r.crystal)
+        for d in np.arange(-3.0, 3.01, 1.0) * step * (3 if ortho else 1):
+            if len(x) == 1:
+                fine.append(CellModel(_cell_from_params(r.crystal, x * math.exp(d)),
+                                      system))  # type: ignore[arg-type]
+    if fine:
+        found = run(fine, 0.5 * step) + found[:1]
+        found.sort(key=lambda t: t[0])
+    best = found[0]
+    trials = coarse + fine
     first = best[1]
     ref = refine_cell(first.crystal, measurements, first)
     final = index_faces(ref.crystal, measurements, max_index=max(max_index, 3),
