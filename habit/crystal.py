@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import math
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -490,6 +490,28 @@ class Crystal:
 
         return bool(forms.is_closed_form(_check_hkl(hkl), self.point_group, metric=self.metric))
 
+    def parse_face(self, text: str) -> tuple[int, int, int]:
+        """Read a face as typed; four indices are accepted only on hexagonal axes.
+
+        Examples
+        --------
+        >>> Crystal.from_cell(5.0, crystal_class='m-3m').parse_face('10-11')
+        Traceback (most recent call last):
+        ...
+        habit.errors.InvalidMillerIndexError: (10-11) has four indices, but this crystal is cubic; write three indices (hkl).
+        """
+        from habit.errors import InvalidMillerIndexError
+        from habit.miller import parse_hkl, parse_indices
+
+        _, values = parse_indices(text)
+        if len(values) == 4 and not self.is_hexagonal_family:
+            where = self.system if self.setting != "rhombohedral" else "on rhombohedral axes"
+            raise InvalidMillerIndexError(
+                f"({''.join(str(v) for v in values)}) has four indices, but this crystal is "
+                f"{where}; write three indices (hkl)."
+            )
+        return parse_hkl(text)
+
     def format_face(self, hkl: ArrayLike, brackets: str = "()") -> str:
         """Write a face, in four-index form for the hexagonal family."""
         from habit.miller import format_hkl
@@ -592,23 +614,33 @@ def _read_cif_structure(path: Path) -> Any:
 
 def _cif_source(path: Path) -> str:
     """A one-line citation from the CIF's publication fields, if any."""
-    keys = ("_publ_author_name", "_journal_name_full", "_journal_year", "_journal_volume")
-    found: dict[str, str] = {}
+    from pymatgen.io.cif import CifFile
+
     try:
-        lines = path.read_text(errors="replace").splitlines()
-    except OSError:
+        blocks = CifFile.from_file(str(path)).data
+    except Exception:  # a file pymatgen read once already; be lenient here
         return ""
-    for line in lines:
-        parts = line.strip().split(None, 1)
-        if len(parts) == 2 and parts[0] in keys and parts[0] not in found:
-            found[parts[0]] = parts[1].strip().strip("'\"")
-    return ", ".join(found[k] for k in keys if k in found)
+    if not blocks:
+        return ""
+    data = next(iter(blocks.values())).data
+
+    def field(key: str) -> str:
+        value = data.get(key)
+        if isinstance(value, list):
+            return "; ".join(str(v).strip() for v in value)
+        return "" if value is None else " ".join(str(value).split())
+
+    authors = field("_publ_author_name")
+    journal = field("_journal_name_full")
+    year = field("_journal_year")
+    volume = field("_journal_volume")
+    page = field("_journal_page_first")
+    parts = [p for p in (authors, f"({year})" if year else "", journal, volume, page) if p]
+    return " ".join(parts[:2]) + (", " + ", ".join(parts[2:]) if parts[2:] else "")
 
 
 # ---------------------------------------------------------------------- files and names
-def _parse_forms(table: dict[str, Any], where: str) -> FormValues:
-    from habit.miller import parse_hkl
-
+def _parse_forms(table: dict[str, Any], where: str, crystal: Crystal) -> FormValues:
     kind = str(table.get("kind", "energy"))
     if kind not in FORM_KINDS:
         raise FileFormatError(
@@ -620,7 +652,7 @@ def _parse_forms(table: dict[str, Any], where: str) -> FormValues:
     for key, value in table.items():
         if key in ("kind", "source", "unit"):
             continue
-        hkl = parse_hkl(str(key))
+        hkl = crystal.parse_face(str(key))
         if isinstance(value, bool) or not isinstance(value, (int, float)):
             raise FileFormatError(f"{where}: the value of form {key} must be a number.")
         hkls.append(hkl)
@@ -643,11 +675,19 @@ def read_crystal_file(path: str | Path) -> Crystal:
         data = tomllib.loads(path.read_text())
     except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
         raise FileFormatError(f"{path} is not a valid TOML file: {exc}.") from None
+    crystal = _crystal_from_table(data, path)
+    if "forms" in data:
+        if not isinstance(data["forms"], dict):
+            raise FileFormatError(f"{path}: [forms] must be a table of Miller index = value.")
+        crystal = replace(crystal, forms=_parse_forms(data["forms"], str(path), crystal))
+    return crystal
+
+
+def _crystal_from_table(data: dict[str, Any], path: Path) -> Crystal:
     name = str(data.get("name", path.stem))
-    forms = _parse_forms(data["forms"], str(path)) if "forms" in data else None
     if "cif" in data:
         cif_path = (path.parent / str(data["cif"])).resolve()
-        return Crystal.from_cif(cif_path, name=name, forms=forms)
+        return Crystal.from_cif(cif_path, name=name)
     cell = data.get("cell")
     if not isinstance(cell, dict):
         raise FileFormatError(f"{path} needs either cif = \"FILE.cif\" or a [cell] table.")
@@ -676,7 +716,6 @@ def read_crystal_file(path: str | Path) -> Crystal:
         crystal_class=klass,
         space_group=sg,
         name=name,
-        forms=forms,
         source=str(cell.get("source", data.get("source", ""))),
     )
 

@@ -193,11 +193,9 @@ def resolve_crystal(
     return crystal, tuple(args)
 
 
-def parse_faces(texts: tuple[str, ...]) -> list[tuple[int, int, int]]:
-    """Parse face arguments, raising one clear error for the first bad one."""
-    from habit.miller import parse_hkl
-
-    return [parse_hkl(t) for t in texts]
+def parse_faces(crystal: Any, texts: tuple[str, ...]) -> list[tuple[int, int, int]]:
+    """Parse face arguments for a crystal, raising one clear error for the first bad one."""
+    return [crystal.parse_face(t) for t in texts]
 
 
 def crystal_header(crystal: Any) -> str:

@@ -41,7 +41,7 @@ def command(
     crystal, rest = resolve_crystal(args, cell, crystal_class, space_group)
     if len(rest) < 2:
         raise InputError("give at least two faces, e.g. 100 111.")
-    faces = parse_faces(rest)
+    faces = parse_faces(crystal, rest)
     pairs = list(itertools.combinations(range(len(faces)), 2))
     first = np.array([faces[i] for i, _ in pairs])
     second = np.array([faces[j] for _, j in pairs])

@@ -32,7 +32,7 @@ def command(
     crystal, rest = resolve_crystal(args, cell, crystal_class, space_group)
     if not rest:
         raise InputError("give at least one form, e.g. 111 or '{10-11}'.")
-    faces = parse_faces(rest)
+    faces = parse_faces(crystal, rest)
     records = []
     for hkl in faces:
         members = crystal.expand_form(hkl)
