@@ -23,6 +23,9 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
     "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
     "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
+    "index": ("habit.cli.index", "Miller indices of measured faces; cell shape from angles."),
+    "orient": ("habit.cli.orient", "Crystal axes in the lab frame from measured faces."),
+    "stereo": ("habit.cli.stereo", "Stereogram (Wulff or equal-area net) of faces and measurements."),
 }
 
 
