@@ -89,7 +89,9 @@ def command(
         orientation = refine_cell(crystal, meas, result).orientation
     assert orientation is not None
     axes = orientation.axes_lab()
-    hexa = bool(getattr(crystal, "is_hexagonal_family", False)) and crystal.cell[5] == 120.0
+    from habit.indexing import _as_model, _uses_hex_axes
+
+    hexa = _uses_hex_axes(_as_model(crystal))
     out: dict[str, Any] = {
         "crystal": crystal_json(crystal),
         "measurements": {"file": meas.source, "kind": meas.kind},

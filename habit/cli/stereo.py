@@ -68,7 +68,7 @@ def command(
     if suffix not in (".png", ".svg"):
         raise InputError(f"--plot must end in .png or .svg; got {plot_path!r}.")
     crystal, rest = resolve_crystal(args, cell, crystal_class, space_group)
-    forms = parse_faces(rest) if rest else [
+    forms = parse_faces(crystal, rest) if rest else [
         (1, 0, 0), (0, 1, 0), (0, 0, 1), (1, 1, 0), (1, 0, 1), (0, 1, 1), (1, 1, 1)]
     seen: set[tuple[int, ...]] = set()
     faces: list[tuple[int, ...]] = []

@@ -99,7 +99,8 @@ def plot_net(ax: Any = None, *, net: str = "wulff", step_deg: float = 10.0,
 
 def plot_poles(vectors: ArrayLike, labels: Sequence[str] | None = None, ax: Any = None, *,
                net: str = "wulff", marker: str = "o", color: str = "C0",
-               label: str | None = None, **kwargs: Any) -> list[Any]:
+               label: str | None = None, text_offset: tuple[float, float] = (4, 4),
+               **kwargs: Any) -> list[Any]:
     """Plot poles: filled on the upper hemisphere, open (folded up) on the lower one.
 
     Parameters
@@ -113,6 +114,8 @@ def plot_poles(vectors: ArrayLike, labels: Sequence[str] | None = None, ax: Any 
     marker, color : str
     label : str, optional
         Legend entry.
+    text_offset : (float, float)
+        Offset of the labels from the poles, in points.
     **kwargs
         Passed to ``ax.scatter``.
 
@@ -140,7 +143,7 @@ def plot_poles(vectors: ArrayLike, labels: Sequence[str] | None = None, ax: Any 
                                       label=lower_label, **kwargs))
     if labels is not None:
         for (x, y), text in zip(pts, labels, strict=True):
-            artists.append(ax.annotate(text, (x, y), xytext=(4, 4), textcoords="offset points",
+            artists.append(ax.annotate(text, (x, y), xytext=text_offset, textcoords="offset points",
                                        fontsize=7, color=color))
     return artists
 
@@ -217,7 +220,7 @@ def plot_stereogram(
     artists += plot_poles(poles, labels, ax, net=net, label="calculated")
     if measured is not None:
         artists += plot_poles(measured, measured_labels, ax, net=net, marker="x", color="C3",
-                              label="measured")
+                              label="measured", text_offset=(4, -10))
         artists.append(ax.legend(loc="lower left", fontsize=7, frameon=False))
     name = "Wulff net (equal-angle)" if net == "wulff" else "Schmidt net (equal-area)"
     artists.append(ax.set_title(title or name, fontsize=9))
