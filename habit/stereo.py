@@ -289,7 +289,7 @@ def vectors_to_phi_rho(
     (0.0, 90.0)
     """
     n = _unit_vectors(vectors)
-    rho = np.arccos(np.clip(n[..., 2], -1.0, 1.0))
+    rho = np.arctan2(np.hypot(n[..., 0], n[..., 1]), n[..., 2])
     t = np.arctan2(n[..., 0], n[..., 1])
     if not clockwise:
         t = -t
