@@ -475,7 +475,7 @@ class Orientation:
         return self.system in ("tetragonal", "trigonal", "hexagonal")
 
     def optic_axis_lab(self) -> FloatArray:
-        """Unit lab vector of the optic axis (= c) of a uniaxial crystal.
+        """Return the unit lab vector of the optic axis (= c) of a uniaxial crystal.
 
         Raises
         ------
@@ -629,7 +629,7 @@ class AxialRatioResult:
 
 
 def _placement(a: FloatArray, b: FloatArray, ca: float, cb: float) -> list[FloatArray]:
-    """Unit vectors x with x·a = ca and x·b = cb (0, 1 or 2 solutions)."""
+    """Find the unit vectors x with x·a = ca and x·b = cb (0, 1 or 2 solutions)."""
     ab = float(a @ b)
     det = 1.0 - ab * ab
     if det < 1e-8:
@@ -648,7 +648,7 @@ def _placement(a: FloatArray, b: FloatArray, ca: float, cb: float) -> list[Float
 
 def embed_angle_table(measurements: Measurements, *, max_branches: int = 64
                       ) -> list[FloatArray]:
-    """Unit normals (in an arbitrary frame) that reproduce an interfacial-angle table.
+    """Find unit normals (in an arbitrary frame) that reproduce an interfacial-angle table.
 
     Faces are placed one by one from their angles to two faces already placed; a third
     angle, when measured, chooses between the two mirror solutions, otherwise both are
@@ -997,7 +997,7 @@ def index_faces(
 
 
 def _normal_sets(measurements: Measurements) -> list[tuple[FloatArray, FloatArray, bool]]:
-    """Normal sets to index: the measured ones, or the embeddings of an angle table."""
+    """List the normal sets to index: the measured ones, or an angle table's embeddings."""
     n = measurements.n_faces
     if n < 3:
         raise InputError(
@@ -1178,7 +1178,7 @@ def refine_cell(
             return (meas - calc) * sw
 
         x0 = x_shape
-        u0 = None
+        u0: FloatArray | None = None
     else:
         assert measurements.normals is not None and indexing.orientation is not None
         nm = np.asarray(measurements.normals, float)[ok]
@@ -1232,6 +1232,7 @@ def refine_cell(
         orientation = None
         labels_res = residuals
     else:
+        assert u0 is not None
         u = _rotvec_matrix(x[p:]) @ u0
         cl = _normals(recip_for(x[:p]), hk) @ u.T
         labels_res = np.arccos(np.clip(np.sum(cl * nm, axis=1), -1, 1))
@@ -1354,8 +1355,8 @@ def find_axial_ratios(
         x = _shape_params(r.crystal)
         for d in np.arange(-3.0, 3.01, 1.0) * step * (3 if ortho else 1):
             if len(x) == 1:
-                fine.append(CellModel(_cell_from_params(r.crystal, x * math.exp(d)),
-                                      system))  # type: ignore[arg-type]
+                cell = _cell_from_params(r.crystal, x * math.exp(d))
+                fine.append(CellModel(cell, system))  # type: ignore[arg-type]
     if fine:
         found = run(fine, 0.5 * step) + found[:1]
         found.sort(key=lambda t: t[0])

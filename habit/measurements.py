@@ -526,7 +526,7 @@ def _column_or_none(values: list[Any], where: str, name: str) -> list[float] | N
 
 def parse_measurements(text: str, fmt: str, *, source: str = "",
                        normalize: bool = False) -> Measurements:
-    """Parse measurement text in ``"csv"`` or ``"toml"`` format.
+    r"""Parse measurement text in ``"csv"`` or ``"toml"`` format.
 
     Parameters
     ----------
@@ -550,7 +550,7 @@ def parse_measurements(text: str, fmt: str, *, source: str = "",
 
     Examples
     --------
-    >>> m = parse_measurements("label,phi_deg,rho_deg\\nm1,0,90\\nm2,60,90\\n", "csv")
+    >>> m = parse_measurements("label,phi_deg,rho_deg\nm1,0,90\nm2,60,90\n", "csv")
     >>> m.labels
     ('m1', 'm2')
     """

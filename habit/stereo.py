@@ -299,7 +299,7 @@ def vectors_to_phi_rho(
 
 
 def zone_axis(pole1: ArrayLike, pole2: ArrayLike) -> FloatArray:
-    """Unit zone axis common to two poles (their normalised cross product).
+    """Return the unit zone axis common to two poles (their normalised cross product).
 
     Parameters
     ----------

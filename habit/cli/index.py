@@ -11,7 +11,7 @@ from habit.cli._common import crystal_options, json_option
 
 def face_text(crystal: Any, hkl: Any) -> str:
     """Format a face as (hkl), or (hkil) for the hexagonal family on hexagonal axes."""
-    from habit.indexing import _uses_hex_axes, CellModel
+    from habit.indexing import CellModel, _uses_hex_axes
     from habit.miller import format_hkl
 
     if not isinstance(crystal, CellModel) and hasattr(crystal, "format_face"):
@@ -135,6 +135,7 @@ def command(
 
     tol = math.radians(tolerance_deg)
     out: dict[str, Any] = {}
+    ref: Any = None
     if system is not None:
         if cell is not None or len(args) != 1:
             raise InputError("with --system give only MEASUREMENTS (no CRYSTAL or --cell).")

@@ -19,7 +19,7 @@ def _vector(text: str) -> tuple[float, float, float]:
         raise InputError(f"--direction takes three numbers X,Y,Z; got {text!r}.") from None
     if len(values) != 3 or all(v == 0 for v in values):
         raise InputError(f"--direction takes three numbers X,Y,Z, not all zero; got {text!r}.")
-    return values  # type: ignore[return-value]
+    return values[0], values[1], values[2]
 
 
 def _nearest(orientation: Any, lab: Any, kind: str, max_index: int = 3) -> tuple[Any, float]:

@@ -184,7 +184,7 @@ def plot_stereogram(
     measured_labels: Sequence[str] | None = None,
     title: str | None = None,
 ) -> list[Any]:
-    """A complete stereogram: net, calculated poles, zone circles, measured poles.
+    """Draw a complete stereogram: net, calculated poles, zone circles, measured poles.
 
     Parameters
     ----------
