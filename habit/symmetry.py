@@ -343,6 +343,8 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
     """
     if isinstance(symbol, PointGroup):
         return symbol
+    if isinstance(symbol, (int, np.integer)) and not isinstance(symbol, bool):
+        symbol = str(int(symbol))  # 432, 222, -1 typed as numbers
     if not isinstance(symbol, str):
         raise _unknown(symbol)
     return _parse_point_group(symbol)
@@ -655,6 +657,8 @@ def _hall_table() -> tuple[dict[str, list[int]], dict[int, int], dict[int, Any]]
     types: dict[int, Any] = {}
     for hall in range(1, 531):
         t = spglib.get_spacegroup_type(hall)
+        if t is None:  # pragma: no cover - spglib's table covers 1..530
+            raise UnknownSymbolError(f"spglib has no Hall number {hall}.")
         types[hall] = t
         first.setdefault(t.number, hall)
         names = {t.international_short, t.international_full}
@@ -671,6 +675,8 @@ def _space_group_from_hall(hall: int) -> SpaceGroup:
     _, _, types = _hall_table()
     t = types[hall]
     sym = spglib.get_symmetry_from_database(hall)
+    if sym is None:  # pragma: no cover - spglib's table covers 1..530
+        raise UnknownSymbolError(f"spglib has no operations for Hall number {hall}.")
     rot = np.asarray(sym["rotations"], dtype=np.int64)
     trans = np.asarray(sym["translations"], dtype=np.float64) % 1.0
     pg = point_group_from_operations(rot)
@@ -731,7 +737,10 @@ def space_group(symbol_or_number: str | int | SpaceGroup) -> SpaceGroup:
 
 
 def space_group_from_operations(
-    rotations: ArrayLike, translations: ArrayLike, number: int | None = None
+    rotations: ArrayLike,
+    translations: ArrayLike,
+    number: int | None = None,
+    lattice: ArrayLike | None = None,
 ) -> SpaceGroup:
     """Build a SpaceGroup from operations given in the user's cell (e.g. from a CIF).
 
@@ -742,7 +751,10 @@ def space_group_from_operations(
     translations : (n, 3) float array
         Translation parts (fractions of the cell edges), centrings as separate operations.
     number : int, optional
-        Space-group number when known; otherwise spglib identifies it.
+        Space-group number when known; it is checked against spglib's identification.
+    lattice : (3, 3) float array, optional
+        Rows a, b, c of the cell (Å). Without it a metric kept by the rotations (the
+        average of ``W.T @ W``) is used, which is enough to identify the type.
 
     Returns
     -------
@@ -753,7 +765,8 @@ def space_group_from_operations(
     Raises
     ------
     InputError
-        If the shapes disagree or spglib cannot identify the operations.
+        If the shapes disagree, spglib cannot identify the operations or the type is not
+        ``number``.
 
     Examples
     --------
@@ -769,9 +782,16 @@ def space_group_from_operations(
             f"got {rot.shape[0]} rotations but {trans.shape[0]} translations;"
             " give one translation per rotation."
         )
+    if lattice is None:
+        metric = np.einsum("nji,njk->ik", rot, rot).astype(np.float64)  # sum of W^T W
+        cell = np.linalg.cholesky(metric / len(rot))  # rows a, b, c with cell @ cell.T = G
+    else:
+        cell = np.asarray(lattice, dtype=np.float64)
+        if cell.shape != (3, 3):
+            raise InputError(f"lattice must be a (3, 3) array of rows a, b, c, got {cell.shape}.")
     import spglib
 
-    t = spglib.get_spacegroup_type_from_symmetry(rot.astype(np.intc), trans)
+    t = spglib.get_spacegroup_type_from_symmetry(rot.astype(np.intc), trans, lattice=cell)
     if t is None:
         raise InputError("spglib could not identify these operations as a space group.")
     if number is not None and int(number) != t.number:
@@ -790,14 +810,31 @@ def _operations_pair(
     if translations is None:
         raise InputError("give translations with the rotations, or pass a SpaceGroup.")
     rot = _as_operations(group)
-    return rot, np.asarray(translations, dtype=np.float64).reshape(-1, 3)
+    trans = np.asarray(translations, dtype=np.float64)
+    if trans.shape != (len(rot), 3):
+        raise InputError(
+            f"translations must have shape ({len(rot)}, 3) to match the rotations,"
+            f" got {trans.shape}."
+        )
+    return rot, trans
+
+
+def _as_hkl_rows(hkl: ArrayLike) -> IntArray:
+    """Validate (3,) or (N, 3) integer Miller indices; returns (N, 3)."""
+    arr = np.asarray(hkl)
+    if arr.ndim not in (1, 2) or arr.shape[-1] != 3 or not np.issubdtype(arr.dtype, np.number):
+        raise InvalidMillerIndexError(f"expected (3,) or (N, 3) Miller indices, got {hkl!r}.")
+    rounded = np.rint(arr.astype(np.float64))
+    if not np.allclose(arr, rounded):
+        raise InvalidMillerIndexError(f"Miller indices must be integers, got {hkl!r}.")
+    return np.atleast_2d(rounded.astype(np.int64))
 
 
 def is_absent(
     hkl: ArrayLike,
     rotations: ArrayLike | SpaceGroup | str | int,
     translations: ArrayLike | None = None,
-) -> BoolArray:
+) -> bool | BoolArray:
     """Tell which reflections are systematically absent, from the operations alone.
 
     Parameters
@@ -828,15 +865,14 @@ def is_absent(
     [False, True, True, False]
     """
     rot, trans = _operations_pair(rotations, translations)
-    h = np.asarray(hkl, dtype=np.int64)
-    single = h.ndim == 1
-    h = np.atleast_2d(h)  # (N, 3)
+    single = np.ndim(hkl) == 1
+    h = _as_hkl_rows(hkl)  # (N, 3)
     moved = np.einsum("ni,gij->ngj", h, rot)  # (N, n, 3)
     fixed = np.all(moved == h[:, None, :], axis=-1)  # (N, n)
     phase = h @ trans.T  # (N, n)
     shifted = np.abs(phase - np.rint(phase)) > _ABS_TOL
-    absent = np.any(fixed & shifted, axis=1)  # (N,)
-    return absent[0] if single else absent
+    absent: BoolArray = np.any(fixed & shifted, axis=1)  # (N,)
+    return bool(absent[0]) if single else absent
 
 
 def first_allowed_order(
@@ -874,8 +910,8 @@ def first_allowed_order(
     (4, 1)
     """
     rot, trans = _operations_pair(space_group, None)
-    h = np.atleast_2d(np.asarray(hkl, dtype=np.int64))  # (N, 3)
-    if h.shape[-1] != 3 or np.any(np.all(h == 0, axis=1)):
+    h = _as_hkl_rows(hkl)  # (N, 3)
+    if np.any(np.all(h == 0, axis=1)):
         raise InvalidMillerIndexError(f"faces must be non-zero index triples, got {hkl!r}.")
     orders = np.zeros(len(h), dtype=np.int64)
     for n in range(1, max_order + 1):

@@ -101,8 +101,14 @@ class WulffShape:
         """Name of the solid ('cuboctahedron', 'cube + octahedron', ...)."""
         from habit.shapes import shape_name
 
-        names = [f.name for f in self.present_forms]
+        names = {i: f.name for i, f in enumerate(self.forms)}
         return str(shape_name(self.polyhedron, form_names=names))
+
+    def symmetry(self) -> Any:
+        """Symmetry of the shape found from its geometry alone (habit.polysym)."""
+        from habit.polysym import symmetry_of
+
+        return symmetry_of(self.polyhedron)
 
     def scaled_to(self, *, volume: float | None = None, diameter: float | None = None) -> Any:
         """The polyhedron scaled to a volume (Å³) or equivalent-sphere diameter (Å)."""
@@ -279,9 +285,9 @@ def wulff_shape(
     Examples
     --------
     >>> xtal = Crystal.from_cell(4.08, crystal_class='m-3m')
-    >>> shape = wulff_shape(xtal, {'111': 1.0, '100': 2 / 3 ** 0.5})   # r = 2/sqrt(3)
+    >>> shape = wulff_shape(xtal, {'100': 1.0, '111': 2 / 3 ** 0.5})   # r = 2/sqrt(3)
     >>> [f.label for f in shape.present_forms], shape.polyhedron.n_vertices
-    (['{111}', '{100}'], 12)
+    (['{100}', '{111}'], 12)
     >>> wulff_shape(xtal, {'111': -1.0})
     Traceback (most recent call last):
     ...

@@ -30,11 +30,9 @@ def parse_form_options(crystal: Any, texts: tuple[str, ...]) -> list[tuple[tuple
 
 def shape_report(shape: Any) -> dict[str, Any]:
     """The stable JSON/table record of a Wulff shape."""
-    from habit.polysym import point_group_of
-
     poly = shape.polyhedron
-    sym = point_group_of(poly)
-    class_ops = shape.crystal.point_group
+    sym = shape.symmetry()
+    crystal = shape.crystal
     h0 = min(f.distance for f in shape.forms)
     return {
         "crystal": None,
@@ -62,10 +60,11 @@ def shape_report(shape: Any) -> dict[str, Any]:
         "n_faces": int(poly.n_faces),
         "mean_energy_J_m2": shape.mean_energy,
         "symmetry": {
-            "point_group": sym.symbol,
+            "point_group": sym.hm,
+            "schoenflies": sym.schoenflies,
             "order": int(sym.order),
-            "contains_crystal_class": bool(sym.contains(shape.crystal, class_ops)),
-            "crystal_class": class_ops.symbol,
+            "contains_crystal_class": bool(sym.contains(crystal.cartesian_operations)),
+            "crystal_class": crystal.point_group.symbol,
         },
     }
 
@@ -158,21 +157,36 @@ def command(
     if json_path != "-":
         print_report(report, crystal_header(crystal))
     if plot_path:
-        from habit.plot import save_figure
-        from habit.plot.shape import plot_shape
-
-        azim_elev = _parse_view(view)
-        artists = plot_shape(shape.polyhedron, view=azim_elev, title=crystal.name)
-        save_figure(artists[0].figure, plot_path)
+        draw_shape(shape, plot_path, _parse_view(view))
     if export_path:
-        from habit import io
-
-        io.write_mesh(shape.polyhedron, export_path)
+        write_solid(shape.polyhedron, export_path)
     if json_path is not None:
         write_json(report, json_path)
     if json_path != "-":
         for p in outputs:
             click.echo(f"wrote {p}")
+
+
+def draw_shape(shape: Any, path: str, view: tuple[float, float] | None = None) -> None:
+    """Draw a Wulff shape to PNG/SVG, titled with the crystal and the shape's name."""
+    from habit.plot import save_figure
+    from habit.plot.shape import plot_polyhedron
+
+    azim, elev = view if view is not None else (None, None)
+    art = plot_polyhedron(shape.polyhedron, azimuth_deg=azim, elevation_deg=elev)
+    ax = art.faces.axes
+    ax.set_title(f"{shape.crystal.name}\n{shape.shape_name()}", fontsize=9)
+    save_figure(ax.figure, path)
+
+
+def write_solid(poly: Any, path: Any) -> None:
+    """Write a polyhedron as STL, OBJ or JSON, by the file's suffix."""
+    from pathlib import Path
+
+    from habit import io
+
+    writer = {".stl": io.write_stl, ".obj": io.write_obj, ".json": io.write_polyhedron_json}
+    writer[Path(path).suffix.lower()](poly, path)
 
 
 def _check_outputs(plot_path: str | None, export_path: str | None) -> None:

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import json
-import math
 
 import numpy as np
 import pytest
@@ -62,14 +61,14 @@ def test_wulff_runs_on_every_bundled_crystal_with_forms(runner, tmp_path, name):
 
 def test_forms_as_options_and_kinds(runner):
     argv = ["wulff", "--cell", "4.0782,4.0782,4.0782,90,90,90", "--class", "m-3m",
-            "--form", "111=1.0", "--form", "100=1.1547005383792517", "--json", "-"]
+            "--form", "100=1.0", "--form", "111=1.1547005383792517", "--json", "-"]
     result = runner.invoke(main, argv)
     assert result.exit_code == 0, result.output
     report = json.loads(result.output)
     assert report["shape_name"] == "cuboctahedron"
     assert report["n_vertices"] == 12
-    # cuboctahedron with h111 = 1: V = 20/3 h100³ with h100 = 2/√3 (closed form)
-    assert report["volume_h0_3"] == pytest.approx(20 / 3 * (2 / math.sqrt(3)) ** 3, rel=1e-9)
+    # r = γ111/γ100 = 2/√3 gives the cuboctahedron, V = 20/3 h100³ (closed form)
+    assert report["volume_h0_3"] == pytest.approx(20 / 3, rel=1e-9)
     assert report["mean_energy_J_m2"] is not None
 
 
