@@ -65,7 +65,7 @@ import numpy as np
 
 from habit._typing import ArrayLike, BoolArray, FloatArray, IntArray
 from habit.errors import CellError, IndexingError, InputError, UnknownSymbolError
-from habit.geometry import cell_to_lattice, reciprocal_lattice
+from habit.geometry import cell_to_lattice, lattice_to_cell, reciprocal_lattice
 from habit.measurements import Measurements
 
 __all__ = [
@@ -1259,20 +1259,146 @@ def refine_cell(
 
 
 def _trial_models(system: str, step: float) -> list[CellModel]:
+    """Grid of trial cells for the one-parameter systems (and the cubic cell)."""
     ratios = np.exp(np.arange(math.log(0.25), math.log(4.0) + 1e-12, step))
     if system == "cubic":
         return [CellModel((1, 1, 1, 90, 90, 90), "cubic")]
     if system in ("tetragonal", "hexagonal", "trigonal"):
         gamma = 90.0 if system == "tetragonal" else 120.0
         return [CellModel((1.0, 1.0, float(r), 90.0, 90.0, gamma), system) for r in ratios]
-    if system == "orthorhombic":
-        coarse = np.exp(np.arange(math.log(0.25), math.log(4.0) + 1e-12, 3 * step))
-        return [CellModel((float(a), 1.0, float(c), 90.0, 90.0, 90.0), system)
-                for a in coarse for c in coarse]
-    raise InputError(
-        f"finding the cell shape of a {system} crystal from angles alone is not supported; "
-        "give an approximate cell (a crystal file) and refine it."
-    )
+    return []
+
+
+def _zones(normals: FloatArray, tol: float, max_zones: int = 12
+           ) -> list[tuple[FloatArray, int]]:
+    """Zone axes of two or more faces, most faces first (axis, face count)."""
+    n = normals
+    i, j = np.triu_indices(len(n), 1)
+    cross = np.cross(n[i], n[j])
+    length = np.linalg.norm(cross, axis=1)
+    keep = length > math.sin(math.radians(8.0))
+    z = cross[keep] / length[keep, None]
+    if len(z) == 0:
+        return []
+    member = np.abs(z @ n.T) < math.sin(2.0 * tol)  # (Z, N)
+    counts = member.sum(axis=1)
+    order = np.lexsort((np.arange(len(z)), -counts))
+    zones: list[tuple[FloatArray, int]] = []
+    for k in order:
+        if counts[k] < 2 or len(zones) == max_zones:
+            break
+        _, _, vt = np.linalg.svd(n[member[k]])
+        axis = vt[-1]
+        if any(abs(float(axis @ q)) > math.cos(3.0 * tol) for q, _ in zones):
+            continue
+        zones.append((axis, int(counts[k])))
+    return zones
+
+
+def _zone_triples(zones: list[tuple[FloatArray, int]], system: str, tol: float
+                  ) -> list[FloatArray]:
+    """List unit axis triples (rows: a, b, c directions) fitting the crystal system."""
+    perp = math.sin(3.0 * tol)
+    out = []
+    for ia, ib, ic in itertools.combinations(range(len(zones)), 3):
+        z = [zones[ia][0], zones[ib][0], zones[ic][0]]
+        if abs(np.linalg.det(np.array(z))) < 0.05:
+            continue
+        dots = {(p, q): abs(float(z[p] @ z[q])) for p, q in ((0, 1), (0, 2), (1, 2))}
+        if system == "orthorhombic":
+            if max(dots.values()) > perp:
+                continue
+            # the strongest zone as c, the other two as a and b
+            a, b, c = z[1], z[2], z[0]
+        elif system == "monoclinic":
+            unique = [u for u in range(3)
+                      if all(dots[tuple(sorted((u, v)))] < perp for v in range(3) if v != u)]
+            if not unique:
+                continue
+            u = unique[0]
+            others = [v for v in range(3) if v != u]
+            b = z[u]
+            c, a = z[others[0]], z[others[1]]
+            if float(a @ c) > 0:  # beta obtuse (common practice)
+                a = -a
+        else:
+            a, b, c = z[1], z[2], z[0]
+        axes = np.array([a, b, c])
+        if np.linalg.det(axes) < 0:
+            axes[1] = -axes[1]
+        out.append(axes)
+    return out
+
+
+def _zone_cells(normals: FloatArray, system: str, tol: float, max_index: int,
+                progress: Callable[[int], None] | None = None) -> list[CellModel]:
+    """Classical cell finding: three zone axes as cell edges, a unit face as (111).
+
+    The edge lengths follow from the unit face: a face (111) cuts the axes at lengths
+    proportional to 1/(n·â), 1/(n·b̂), 1/(n·ĉ). Every candidate cell indexes all faces
+    directly (the axes are already in the lab frame); the cells indexing most faces
+    with the simplest indices come first.
+    """
+    zones = _zones(normals, tol)
+    if system in ("orthorhombic", "monoclinic"):
+        # an axis perpendicular to two others is the normal of the plane they span:
+        # add those normals (b of a monoclinic cell is one even when no zone shows it)
+        extra = []
+        for (p, _), (q, _) in itertools.combinations(zones[:8], 2):
+            v = np.cross(p, q)
+            if np.linalg.norm(v) > 0.3:
+                v = v / np.linalg.norm(v)
+                if all(abs(float(v @ z)) < math.cos(3.0 * tol) for z, _ in zones + extra):
+                    extra.append((v, 0))
+        zones = zones + extra
+    triples = _zone_triples(zones, system, tol)
+    if not triples:
+        return []
+    cand = candidate_indices(max_index)
+    simp = _simplicity(cand, False)
+    scored: list[tuple[tuple[int, int, float, float], FloatArray]] = []
+    for k, axes in enumerate(triples):
+        dots = normals @ axes.T  # (N, 3)
+        units = np.nonzero(np.all(np.abs(dots) > math.sin(math.radians(5.0)), axis=1))[0]
+        if len(units) == 0:
+            continue
+        lengths = 1.0 / np.abs(dots[units])  # (U, 3)
+        lat = lengths[:, :, None] * axes[None, :, :]  # (U, 3, 3) rows a, b, c
+        recip = np.swapaxes(np.linalg.inv(lat), 1, 2)  # (U, 3, 3) rows a*, b*, c*
+        cn = cand @ recip  # (U, M, 3)
+        cn /= np.linalg.norm(cn, axis=2, keepdims=True)
+        cos = np.abs(np.einsum("nk,umk->unm", normals, cn))  # (U, N, M), either sign
+        best = np.argmax(cos, axis=2)
+        res = np.arccos(np.clip(np.take_along_axis(cos, best[..., None], 2)[..., 0], -1, 1))
+        ok = res <= tol
+        inl = ok.sum(axis=1)
+        sim = np.where(ok, simp[best], 0).sum(axis=1)
+        sse = np.where(ok, res ** 2, 0.0).sum(axis=1)
+        for u in range(len(units)):
+            skew = round(_skewness(lattice_to_cell(lat[u])), 2)
+            scored.append(((-int(inl[u]), int(sim[u]), skew, float(sse[u])), lat[u]))
+        if progress is not None:
+            progress(k + 1)
+    scored.sort(key=lambda t: t[0])
+    models: list[CellModel] = []
+    for _, lat in scored[:40]:
+        a, b, c, al, be, ga = lattice_to_cell(lat)
+        if system == "orthorhombic":
+            cell = (a / b, 1.0, c / b, 90.0, 90.0, 90.0)
+        elif system == "monoclinic":
+            cell = (a / b, 1.0, c / b, 90.0, be, 90.0)
+        else:
+            cell = (a / b, 1.0, c / b, al, be, ga)
+        if all(np.max(np.abs(np.subtract(cell, m.cell))) > 1e-3 for m in models):
+            models.append(CellModel(cell, system))  # type: ignore[arg-type]
+        if len(models) == 6:
+            break
+    return models
+
+
+def _skewness(cell: Sequence[float]) -> float:
+    """Σ|cos| of the cell angles: 0 for orthogonal axes (classical axes are chosen near it)."""
+    return float(sum(abs(math.cos(math.radians(x))) for x in cell[3:]))
 
 
 def find_axial_ratios(
@@ -1286,26 +1412,33 @@ def find_axial_ratios(
 ) -> AxialRatioResult:
     """Find axial ratios and indices when only the crystal system is known.
 
-    The cell shape is searched on a grid (ratios from 1/4 to 4, logarithmic ``step``);
-    each trial cell is indexed with a tolerance widened by the grid's angular step; the
-    trial indexing the most faces with the simplest indices wins and is refined by
-    :func:`refine_cell`, then the faces are indexed again under the refined cell. Of the
-    cells that differ only in the choice of unit face, the simplest indexing is kept.
+    * Tetragonal, hexagonal, trigonal (hexagonal axes): c/a is searched on a grid from
+      1/4 to 4 (logarithmic ``step``, coarse then fine); each trial cell is indexed with
+      a tolerance widened by the grid's angular step.
+    * Orthorhombic, monoclinic, triclinic: the classical construction — zone axes
+      (most populated first) are taken as cell edges (mutually perpendicular for
+      orthorhombic; one perpendicular to the other two, β obtuse, for monoclinic) and a
+      face cutting all three as the unit face (111) fixes the axial ratios.
+
+    The candidate indexing the most faces with the simplest indices is refined by
+    :func:`refine_cell`, the faces are indexed again under the refined cell and the cell
+    refined once more. Cells that differ only in the choice of unit face index the same
+    faces with other numbers; the simplest indexing is kept, which is the conventional
+    choice only when the conventional unit form has simple indices.
 
     Parameters
     ----------
     system : str
-        'cubic', 'tetragonal', 'hexagonal', 'trigonal' (hexagonal axes) or
-        'orthorhombic'.
+        One of :data:`SYSTEMS`.
     measurements : Measurements
     max_index : int
         Largest index during the search.
     tolerance : float
         Radians, for the final indexing.
     step : float
-        Logarithmic grid step of the ratios (orthorhombic uses three times this).
+        Logarithmic grid step of c/a for the one-parameter systems.
     progress : callable, optional
-        Called with the number of trial cells done.
+        Called with the number of trial cells (or zone triples) done.
 
     Returns
     -------
@@ -1313,18 +1446,19 @@ def find_axial_ratios(
 
     Raises
     ------
-    UnknownSymbolError, InputError, IndexingError
+    UnknownSymbolError
+        For an unknown system.
+    IndexingError
+        When no cell of the system indexes the faces.
     """
     if system not in SYSTEMS:
         raise UnknownSymbolError(f"unknown crystal system {system!r}; choose one of: "
                                  f"{', '.join(SYSTEMS)}.")
     sets = _normal_sets(measurements)
-    coarse = _trial_models(system, 3.0 * step)
-    ortho = system == "orthorhombic"
     done = 0
 
     def run(trials: list[CellModel], widen: float
-            ) -> list[tuple[tuple[int, int, float], IndexingResult]]:
+            ) -> list[tuple[tuple[int, int, float, float], IndexingResult]]:
         nonlocal done
         out = []
         for trial in trials:
@@ -1333,7 +1467,7 @@ def find_axial_ratios(
                            tolerance=tolerance + widen, max_pairs=8, min_fraction=0.5,
                            progress=None)
                 key = (-r.n_indexed, int(_simplicity(r.hkl, _uses_hex_axes(trial)).sum()),
-                       r.rms)
+                       round(_skewness(trial.cell), 2), r.rms)
                 out.append((key, r))
             except IndexingError:
                 pass
@@ -1343,26 +1477,39 @@ def find_axial_ratios(
         out.sort(key=lambda t: t[0])
         return out
 
-    # angular change of a normal per unit change of ln(ratio) is at most 1/2
-    found = run(coarse, 0.5 * 3.0 * step * (3 if ortho else 1))
+    if system in ("orthorhombic", "monoclinic", "triclinic"):
+        trials: list[CellModel] = []
+        for normals, _, _ in sets:
+            trials = _zone_cells(normals, system, tolerance, max_index)
+            if trials:
+                break
+        if not trials:
+            raise IndexingError(
+                f"the faces show too few zones to build a {system} cell; measure "
+                "more faces or give an approximate cell."
+            )
+        found = run(trials, 0.0)
+    else:
+        coarse = _trial_models(system, 3.0 * step)
+        # angular change of a normal per unit change of ln(ratio) is at most 1/2
+        found = run(coarse, 0.5 * 3.0 * step)
+        fine: list[CellModel] = []
+        for _, r in found[:3]:
+            x = _shape_params(r.crystal)
+            for d in np.arange(-3.0, 3.01, 1.0) * step:
+                if len(x) == 1:
+                    cell = _cell_from_params(r.crystal, x * math.exp(d))
+                    fine.append(CellModel(cell, system))  # type: ignore[arg-type]
+        if fine:
+            found = run(fine, 0.5 * step) + found[:1]
+            found.sort(key=lambda t: t[0])
+        trials = coarse + fine
     if not found:
         raise IndexingError(
             f"no {system} cell shape indexes the faces; check the system or raise the "
             "tolerance."
         )
-    fine: list[CellModel] = []
-    for _, r in found[:3]:
-        x = _shape_params(r.crystal)
-        for d in np.arange(-3.0, 3.01, 1.0) * step * (3 if ortho else 1):
-            if len(x) == 1:
-                cell = _cell_from_params(r.crystal, x * math.exp(d))
-                fine.append(CellModel(cell, system))  # type: ignore[arg-type]
-    if fine:
-        found = run(fine, 0.5 * step) + found[:1]
-        found.sort(key=lambda t: t[0])
-    best = found[0]
-    trials = coarse + fine
-    first = best[1]
+    first = found[0][1]
     ref = refine_cell(first.crystal, measurements, first)
     final = index_faces(ref.crystal, measurements, max_index=max(max_index, 3),
                         tolerance=tolerance)

@@ -98,7 +98,8 @@ def print_indexing(crystal: Any, measurements: Any, result: Any, rows: list[dict
 @crystal_options
 @click.option("--system", "system", default=None, metavar="SYSTEM",
               help="Crystal system when the cell is unknown (instead of CRYSTAL): "
-                   "cubic, tetragonal, hexagonal, trigonal or orthorhombic.")
+                   "cubic, tetragonal, hexagonal, trigonal, orthorhombic, monoclinic or "
+                   "triclinic.")
 @click.option("--refine", is_flag=True, help="Refine the cell shape (axial ratios, free "
               "angles) and the orientation by least squares.")
 @click.option("--max-index", "max_index", type=click.IntRange(1, 8), default=3,
@@ -142,7 +143,8 @@ def command(
         meas = read_measurements(args[0])
         from habit.indexing import _trial_models
 
-        total = len(_trial_models(system.lower(), 0.03)) + 21
+        grid = _trial_models(system.lower(), 0.03)
+        total = len(grid) + 21 if grid else 6
         if json_path != "-":
             with progress_bar(total, "Searching cell shapes") as update:
                 found = find_axial_ratios(system.lower(), meas, tolerance=tol, progress=update)
