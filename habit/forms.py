@@ -37,7 +37,7 @@ from habit.symmetry import (
     PointGroup,
     _axis,
     _main_axis,
-    _rotation_type,
+    _rotation_types,
     expand_form,
     point_group,
     point_group_from_operations,
@@ -137,12 +137,8 @@ def _uniaxial_name(faces: np.ndarray, group: PointGroup) -> str:
 
 def _cubic_name(faces: np.ndarray, group: PointGroup) -> str:
     ops = group.operations
-    types = np.array([abs(_rotation_type(w)) for w in ops])
-    chosen = (
-        ops[types == 4]
-        if np.any(types == 4)
-        else ops[np.array([_rotation_type(w) == 2 for w in ops])]
-    )
+    types = _rotation_types(ops)  # (G,)
+    chosen = ops[np.abs(types) == 4] if np.any(np.abs(types) == 4) else ops[types == 2]
     lattice, recip = _cartesian(ops)
     axes = _unit(np.array([_axis(w) for w in chosen]) @ lattice)  # <100> directions
     frame = [axes[0]]

@@ -187,6 +187,16 @@ def _rotation_type(w: IntArray) -> int:
     return -n  # -n = inversion times a proper rotation of order n
 
 
+_ORDER_OF_TRACE = np.array([2, 3, 4, 6, 1])  # proper trace -1, 0, 1, 2, 3 -> order
+
+
+def _rotation_types(ops: IntArray) -> IntArray:
+    """Vectorised :func:`_rotation_type` for (G, 3, 3) operations; returns (G,) ints."""
+    dets = np.rint(np.linalg.det(ops.astype(np.float64))).astype(np.int64)  # (G,)
+    traces = np.trace(ops, axis1=1, axis2=2) * dets  # (G,) trace of the proper part
+    return np.asarray(_ORDER_OF_TRACE[traces + 1] * dets, dtype=np.int64)
+
+
 @dataclass(frozen=True, slots=True, eq=False)
 class PointGroup:
     """One of the 32 crystal classes with its operations in a given basis.
@@ -318,7 +328,9 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
         ``"4/mmm"``, ``"-3 2/m"``, ``"bar3m"``, ``"3̄m"``), a monoclinic full symbol
         giving the unique axis (``"1 2/m 1"``, ``"1 1 2/m"``, ``"2/m 1 1"``), or a
         Schoenflies symbol (``"Oh"``, ``"D3d"``); case and spaces do not matter.
-        A PointGroup is returned unchanged.
+        A suffix picks the axes: ``":R"`` rhombohedral (``"-3m:R"``), ``":H"``
+        hexagonal (default), ``":a"``, ``":b"`` (default), ``":c"`` the unique axis of a
+        monoclinic class. A PointGroup is returned unchanged.
 
     Returns
     -------
@@ -336,7 +348,7 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
     ('m-3m', 'Oh', 48, True)
     >>> point_group("32").symbol, point_group("D3h").symbol
     ('321', '-6m2')
-    >>> point_group("5/m")
+    >>> point_group("5/m")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
     habit.errors.UnknownSymbolError: unknown crystal class '5/m'; ...
@@ -352,6 +364,26 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
 
 @lru_cache(maxsize=256)
 def _parse_point_group(symbol: str) -> PointGroup:
+    name, colon, setting = symbol.partition(":")
+    if colon:
+        group = _parse_point_group(name) if name.strip() else None
+        change = {"r": RHOMBOHEDRAL_AXES, "h": _I, "a": UNIQUE_AXIS_A, "b": _I}
+        change["c"] = UNIQUE_AXIS_C
+        key = setting.strip().lower()
+        if group is None or key not in change:
+            raise _unknown(symbol)
+        if (
+            key in "abc"
+            and group.system != "monoclinic"
+            or key in "rh"
+            and group.system != "trigonal"
+        ):
+            raise UnknownSymbolError(
+                f"setting ':{setting.strip()}' in {symbol!r} does not apply to class "
+                f"{group.symbol}; use ':R' or ':H' for trigonal and ':a', ':b', ':c' for "
+                "monoclinic classes."
+            )
+        return group if key in "bh" else group.transformed(change[key])
     text = symbol.strip().replace("\u2212", "-").replace("\u2013", "-")
     text = re.sub(r"(\d)[\u0304\u0305]", r"-\1", text)  # 3̄ -> -3
     text = re.sub(r"bar\s*", "-", text, flags=re.IGNORECASE)
@@ -387,8 +419,8 @@ def _parse_point_group(symbol: str) -> PointGroup:
 
 # --- identification from matrices --------------------------------------------------------
 def _signature(ops: IntArray) -> tuple[int, ...]:
-    types = [_rotation_type(w) for w in ops]
-    return tuple(types.count(t) for t in (1, 2, 3, 4, 6, -1, -2, -3, -4, -6))
+    types = _rotation_types(ops)
+    return tuple(int(np.count_nonzero(types == t)) for t in (1, 2, 3, 4, 6, -1, -2, -3, -4, -6))
 
 
 @lru_cache(maxsize=1)
@@ -436,9 +468,8 @@ def _variant(geometric: str, ops: IntArray) -> str:
     }[geometric]  # fmt: skip
     wanted = -2 if geometric == "3m" else 2
     main = _main_axis(ops)
-    axes = [
-        _axis(w) for w in ops if _rotation_type(w) == wanted and np.any(np.cross(_axis(w), main))
-    ]
+    twofolds = [_axis(w) for w in ops[_rotation_types(ops) == wanted]]
+    axes = [u for u in twofolds if np.any(np.cross(u, main))]  # not along the main axis
     minors = [np.cross(u, v) for i, u in enumerate(axes) for v in axes[i + 1 :]]
     index = reduce(math.gcd, (abs(int(x)) for m in minors for x in m), 0)
     return first if index == 1 else second
@@ -581,6 +612,18 @@ def expand_form(hkl: ArrayLike, operations: ArrayLike | str | PointGroup) -> Int
 
 def multiplicity(hkl: ArrayLike, group: ArrayLike | str | PointGroup) -> int:
     """Return the number of faces of the form {hkl} in ``group``.
+
+    Parameters
+    ----------
+    hkl : (3,) int array
+        Miller indices of one face.
+    group : (G, 3, 3) int array, PointGroup or str
+        The crystal class.
+
+    Returns
+    -------
+    int
+        The number of distinct faces; it divides the order of the group.
 
     Examples
     --------

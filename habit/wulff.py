@@ -164,6 +164,27 @@ def _check_values(crystal: Crystal, hkls: list[tuple[int, int, int]], values: li
     return out
 
 
+def _distinct_forms(
+    crystal: Crystal, hkls: list[tuple[int, int, int]], values: list[float]
+) -> tuple[list[tuple[int, int, int]], list[float]]:
+    """Drop repeats of a form given again with the same value (the first one is kept)."""
+    seen: dict[tuple[tuple[int, ...], ...], float] = {}
+    out_h, out_v = [], []
+    for hkl, value in zip(hkls, values, strict=True):
+        key = tuple(sorted(tuple(int(x) for x in m) for m in crystal.expand_form(hkl)))
+        if key in seen:
+            if not math.isclose(seen[key], value, rel_tol=1e-12):
+                raise InputError(
+                    f"the form {crystal.format_face(hkl, '{}')} is given twice with different "
+                    f"values ({seen[key]:g} and {value:g}); give each form once."
+                )
+            continue
+        seen[key] = value
+        out_h.append(hkl)
+        out_v.append(value)
+    return out_h, out_v
+
+
 def form_planes(
     crystal: Crystal, hkls: Iterable[Any], values: Iterable[float]
 ) -> tuple[FloatArray, FloatArray, IntArray, IntArray]:
@@ -302,6 +323,7 @@ def wulff_shape(
     if not hkls:
         raise InputError("give at least one form and its value.")
     values = _check_values(crystal, hkls, raw_values, kind)
+    hkls, values = _distinct_forms(crystal, hkls, values)
     normals, distances, hkl_all, form_ids = form_planes(crystal, hkls, values)
     labels = [crystal.format_face(h, "{}") for h in hkls]
     try:
@@ -322,14 +344,12 @@ def wulff_shape(
     total = float(areas.sum())
     results = []
     for i, hkl in enumerate(hkls):
-        mult = int(np.sum(form_ids == i))
-        duplicate = mult == 0  # a repeat of an earlier form with the same value
         results.append(
             FormResult(
                 hkl=tuple(int(x) for x in hkl),  # type: ignore[arg-type]
                 label=labels[i],
                 name=crystal.form_name(hkl),
-                multiplicity=crystal.multiplicity(hkl) if duplicate else mult,
+                multiplicity=int(np.sum(form_ids == i)),
                 value=values[i],
                 distance=values[i],
                 area=float(areas[i]),

@@ -221,7 +221,7 @@ def test_four_and_three_index_forms_give_the_same_normal(hkl):
     e1 = QUARTZ.lattice[0] / a
     e2 = QUARTZ.lattice[1] / a
     e3 = -(e1 + e2)
-    h, k, i, l = hkl_to_hkil(hkl)
+    h, k, i, l = hkl_to_hkil(hkl)  # noqa: E741
     g = 2 / (3 * a) * (h * e1 + k * e2 + i * e3) + l / c * np.array([0.0, 0.0, 1.0])
     assert np.allclose(QUARTZ.normals(hkl), g / np.linalg.norm(g), atol=1e-12)
 
@@ -235,10 +235,20 @@ TOMLS = sorted(p for p in bundled_crystals().values() if p.suffix == ".toml")
 # point groups of the bundled space groups (International Tables Vol. A; the class of a
 # space group is its symbol with translations dropped)
 EXPECTED_CLASS = {
-    "quartz": "321", "calcite": "-3m1", "corundum": "-3m1", "zircon": "4/mmm",
-    "rutile": "4/mmm", "fluorite": "m-3m", "pyrite": "m-3", "copper": "m-3m",
-    "zincite": "6mm", "forsterite": "mmm", "diopside": "2/m", "albite": "-1",
-    "kyanite": "-1", "iron": "m-3m",
+    "quartz": "321",
+    "calcite": "-3m1",
+    "corundum": "-3m1",
+    "zircon": "4/mmm",
+    "rutile": "4/mmm",
+    "fluorite": "m-3m",
+    "pyrite": "m-3",
+    "copper": "m-3m",
+    "zincite": "6mm",
+    "forsterite": "mmm",
+    "diopside": "2/m",
+    "albite": "-1",
+    "kyanite": "-1",
+    "iron": "m-3m",
 }
 
 

@@ -265,7 +265,6 @@ def _class_of_space_group_symbol(symbol: str) -> str:
     return re.sub("[abcnde]", "m", core)
 
 
-@pytest.mark.slow
 def test_identification_agrees_with_spglib_for_all_230_types():
     # Reference library: spglib's database (Togo et al. 2024). The class and its orientation
     # (321/312, 3m1/31m, -3m1/-31m, -6m2/-62m, -42m/-4m2) read from spglib's space-group
@@ -455,10 +454,11 @@ def test_is_absent_with_explicit_operations_and_shapes():
 @pytest.mark.parametrize(
     ("symbol", "hkl", "order"),
     [
-        # BFDH orders (Donnay & Harker 1937 rule with ITA Vol. A conditions); the d_eff
-        # planes listed in REFERENCES-style worked examples: fcc {100}->200, {110}->220,
-        # {111}->111; bcc {100}->200, {110}->110, {111}->222; diamond {100}->400,
-        # {110}->220, {111}->111, {311}->311. Exact.
+        # BFDH orders: Donnay & Harker (1937) rule applied with the reflection conditions
+        # of ITA Vol. A; the first allowed reflections fcc 200, 220, 111; bcc 200, 110,
+        # 222; diamond 400, 220, 111, 311 are the standard powder lines of these
+        # structures (common practice); P2_1/c 020, 002 (screw and glide); P6_3/mmc 002.
+        # Exact.
         ("Fm-3m", (1, 0, 0), 2), ("Fm-3m", (1, 1, 0), 2), ("Fm-3m", (1, 1, 1), 1),
         ("Im-3m", (1, 0, 0), 2), ("Im-3m", (1, 1, 0), 1), ("Im-3m", (1, 1, 1), 2),
         ("Fd-3m", (1, 0, 0), 4), ("Fd-3m", (1, 1, 0), 2), ("Fd-3m", (1, 1, 1), 1),
@@ -558,3 +558,40 @@ def test_point_group_accepts_numbers_typed_as_integers():
     assert point_group(432).symbol == "432" and point_group(-1).symbol == "-1"
     with pytest.raises(UnknownSymbolError):
         point_group(5)
+
+
+# Primitive cells of the centred lattices, (a', b', c') = (a, b, c) @ P (ITA Vol. A
+# Table 5.1.3.1; from memory). Exact rational matrices.
+PRIMITIVE = {
+    "P": np.eye(3),
+    "A": np.array([[1, 0, 0], [0, 1, 1], [0, -1, 1]]) / np.array([1, 2, 2]),
+    "B": np.array([[1, 0, 1], [0, 1, 0], [-1, 0, 1]]) / np.array([2, 1, 2]),
+    "C": np.array([[1, 1, 0], [-1, 1, 0], [0, 0, 1]]) / np.array([2, 2, 1]),
+    "I": np.array([[-1, 1, 1], [1, -1, 1], [1, 1, -1]]) / 2,
+    "F": np.array([[0, 1, 1], [1, 0, 1], [1, 1, 0]]) / 2,
+    "R": RHOMBOHEDRAL_AXES,
+}
+
+
+def test_identification_in_primitive_cells_of_all_230_types():
+    # The class and its orientation relative to the lattice do not change when the
+    # conventional centred cell is replaced by a primitive one. Exact.
+    for number in range(1, 231):
+        sg = space_group(number)
+        p = PRIMITIVE[sg.symbol[0]]
+        primitive = sg.point_group.transformed(p)  # raises if not integral
+        found = point_group_from_operations(primitive.operations)
+        assert found.symbol == sg.point_group.symbol, (number, sg.symbol)
+
+
+def test_setting_suffixes():
+    assert point_group("-3m:R") == point_group("-3m").transformed(RHOMBOHEDRAL_AXES)
+    assert point_group("-3m:H") is point_group("-3m")
+    assert point_group("2/m:c") == point_group("1 1 2/m")
+    assert point_group("m:a") == point_group("m 1 1")
+    with pytest.raises(UnknownSymbolError, match="does not apply"):
+        point_group("m-3m:R")
+    with pytest.raises(UnknownSymbolError):
+        point_group("2/m:x")
+    with pytest.raises(InputError, match="non-integral"):
+        point_group("312:R")

@@ -21,11 +21,16 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "angles": ("habit.cli.angles", "Interfacial angles between faces (degrees and minutes)."),
     "crystal": ("habit.cli.crystal", "Describe a crystal; show its conventional setting."),
     "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
-    "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
+    "wulff": (
+        "habit.cli.wulff",
+        "Wulff shape, kinetic shape or habit drawing, with its form table.",
+    ),
     "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
+    "dual": ("habit.cli.dual", "Dual polyhedron by polar reciprocation."),
+    "pack": ("habit.cli.pack", "Densest lattice (and double-lattice) packing of a shape."),
     "index": ("habit.cli.index", "Miller indices of measured faces; cell shape from angles."),
     "orient": ("habit.cli.orient", "Crystal axes in the lab frame from measured faces."),
-    "stereo": ("habit.cli.stereo", "Stereogram (Wulff or equal-area net) of faces and measurements."),
+    "stereo": ("habit.cli.stereo", "Stereogram of faces and measured poles."),
 }
 
 

@@ -11,7 +11,9 @@ from habit.cli._common import crystal_options, json_option
 KIND_UNITS = {"energy": "J/m²", "distance": "relative", "rate": "relative"}
 
 
-def parse_form_options(crystal: Any, texts: tuple[str, ...]) -> list[tuple[tuple[int, int, int], float]]:
+def parse_form_options(
+    crystal: Any, texts: tuple[str, ...]
+) -> list[tuple[tuple[int, int, int], float]]:
     """Read ``--form HKL=VALUE`` options against a crystal."""
     from habit.errors import InputError
 
@@ -119,7 +121,9 @@ def print_report(report: dict[str, Any], crystal_line: str) -> None:
 @click.option("--distances", "kind", flag_value="distance", help="Values are central distances.")
 @click.option("--rates", "kind", flag_value="rate", help="Values are growth rates (kinetic shape).")
 @click.option("--plot", "plot_path", metavar="FILE", help="Draw the shape (.png or .svg).")
-@click.option("--view", metavar="AZIM,ELEV", help="View direction in degrees (default clinographic).")
+@click.option(
+    "--view", metavar="AZIM,ELEV", help="View direction in degrees (default clinographic)."
+)
 @click.option("--export", "export_path", metavar="FILE", help="Write the solid (.stl, .obj).")
 @json_option
 def command(
