@@ -15,6 +15,8 @@ __version__ = "0.1.0"
 _PUBLIC: dict[str, str] = {
     "HabitError": "habit.errors",
     "Tolerances": "habit.tolerances",
+    "index_faces": "habit.indexing",
+    "read_measurements": "habit.measurements",
 }
 
 __all__ = sorted(_PUBLIC)

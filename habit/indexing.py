@@ -514,7 +514,8 @@ class IndexingResult:
     crystal : CellModel
         Cell and system used.
     setting : (3, 3) int array
-        The lattice rotation W applied to choose the reported setting (h' = h W⁻¹).
+        The lattice rotation W applied to choose the reported setting (h' = h W⁻¹);
+        for an angle table it may include the inversion (−W).
     equivalent_settings : int
         How many settings fit equally well (order of the lattice's rotation group).
     hypotheses : int
@@ -890,8 +891,10 @@ def _result_from(
     simp = _simplicity(cand, _uses_hex_axes(model))
     u, choice, res, ok = _refine_orientation(u, normals, weights, cand, cand_n, simp, tol)
     hkl = cand[choice]
-    k = _choose_setting(hkl, ok, rotations)
-    w = rotations[k]
+    # an angle table fixes no handedness: the inverted index set is equally valid
+    settings = rotations if orientation_known else np.concatenate([rotations, -rotations])
+    k = _choose_setting(hkl, ok, settings)
+    w = settings[k]
     hkl_new = hkl @ np.rint(np.linalg.inv(w)).astype(np.int64)
     u_new = u @ _cartesian_rotation(model.lattice, w).T
     shown = np.where(ok[:, None], hkl_new, 0)

@@ -43,8 +43,8 @@ def command(
 ) -> None:
     """Draw the poles of the forms HKL of CRYSTAL on the upper hemisphere (c at the centre).
 
-    Each HKL is expanded to its whole form. Without HKL the forms {100}, {010}, {001},
-    {110}, {101}, {011} and {111} are drawn. The pole of (010) is at the right, φ runs
+    Each HKL is expanded to its whole form. Without HKL the forms of a crystal file are
+    drawn, or else {100}, {010}, {001}, {110}, {101}, {011} and {111}. The pole of (010) is at the right, φ runs
     clockwise; lower-hemisphere poles are open symbols.
     """
     import math
@@ -68,8 +68,12 @@ def command(
     if suffix not in (".png", ".svg"):
         raise InputError(f"--plot must end in .png or .svg; got {plot_path!r}.")
     crystal, rest = resolve_crystal(args, cell, crystal_class, space_group)
-    forms = parse_faces(crystal, rest) if rest else [
-        (1, 0, 0), (0, 1, 0), (0, 0, 1), (1, 1, 0), (1, 0, 1), (0, 1, 1), (1, 1, 1)]
+    if rest:
+        forms = parse_faces(crystal, rest)
+    elif getattr(crystal, "forms", None) is not None:
+        forms = [tuple(int(v) for v in h) for h in crystal.forms.hkl]
+    else:
+        forms = [(1, 0, 0), (0, 1, 0), (0, 0, 1), (1, 1, 0), (1, 0, 1), (0, 1, 1), (1, 1, 1)]
     seen: set[tuple[int, ...]] = set()
     faces: list[tuple[int, ...]] = []
     for form in forms:

@@ -142,9 +142,11 @@ def plot_poles(vectors: ArrayLike, labels: Sequence[str] | None = None, ax: Any 
                                       facecolors="none", edgecolors=color, zorder=3,
                                       label=lower_label, **kwargs))
     if labels is not None:
-        for (x, y), text in zip(pts, labels, strict=True):
-            artists.append(ax.annotate(text, (x, y), xytext=text_offset, textcoords="offset points",
-                                       fontsize=7, color=color))
+        for (x, y), text, up in zip(pts, labels, upper, strict=True):
+            # lower-hemisphere labels to the left, so a pole pair (hkl)/(hk-l) stays legible
+            offset = text_offset if up else (-text_offset[0], text_offset[1])
+            artists.append(ax.annotate(text, (x, y), xytext=offset, textcoords="offset points",
+                                       fontsize=7, color=color, ha="left" if up else "right"))
     return artists
 
 
