@@ -285,6 +285,33 @@ def test_calcite_axial_ratio_from_cleavage_rhomb():
     assert ref.values[0] == pytest.approx(0.8543, abs=4e-4)
 
 
+def test_zircon_axial_ratio_from_bournon():
+    # Bournon (1817, Transactions of the Geological Society of London, 1st series, 4)
+    # measured the dihedral angle over the base edge of the zircon bipyramid P on P as
+    # 84°20′; the goniometric (normal) angle (101)∧(10-1) is 180° − 84°20′ = 95°40′.
+    # Expected: c/a = 5.982/6.607 = 0.9054 (Handbook of Mineralogy cell), i.e. the
+    # classical ratio c = 0.6404 (Dana; from memory) on the classical axes a/√2, c/2.
+    # Tolerance 0.0013 in c/a: a 5′ reading error ([C], 2.6e-4 per minute).
+    start = CellModel((1, 1, 1, 90, 90, 90), "tetragonal")
+    m = measurements_from_arrays(pairs=[("P", "P'")], angles_deg=[180 - (84 + 20 * MINUTE)])
+    ref = refine_cell(start, m, [[1, 0, 1], [1, 0, -1]])
+    assert ref.values[0] == pytest.approx(5.982 / 6.607, abs=1.3e-3)
+    assert ref.values[0] / math.sqrt(2) == pytest.approx(0.6404, abs=1e-3)
+
+
+def test_permuting_faces_permutes_indices():
+    # the indexing of a face does not depend on where it stands in the list (up to one
+    # common lattice rotation, since the setting rule looks at the list order last)
+    order = np.random.default_rng(4).permutation(RUTILE_MEAS.n_faces)
+    perm = measurements_from_arrays(
+        labels=[RUTILE_MEAS.labels[i] for i in order],
+        normals=np.asarray(RUTILE_MEAS.normals)[order])
+    r = index_faces(RUTILE, perm)
+    inv = np.rint(np.linalg.inv(lattice_rotations(RUTILE.cell))).astype(int)
+    assert any(np.array_equal(RUTILE_RESULT.hkl[order] @ w, r.hkl) for w in inv)
+    assert r.flagged == RUTILE_RESULT.flagged
+
+
 def angle_table(model, faces, minutes=True):
     """Interfacial angles of labelled faces, rounded to 1′ like a goniometer table."""
     labels = list(faces)

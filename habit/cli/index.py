@@ -38,8 +38,14 @@ def indexing_rows(crystal: Any, measurements: Any, result: Any) -> list[dict[str
             row["measured_phi_deg"] = math.degrees(float(measurements.phi[i]))
             row["measured_rho_deg"] = math.degrees(float(measurements.rho[i]))
             if result.calculated_phi_rho is not None and ok:
-                row["calculated_phi_deg"] = math.degrees(float(result.calculated_phi_rho[i, 0]))
-                row["calculated_rho_deg"] = math.degrees(float(result.calculated_phi_rho[i, 1]))
+                phi_c = math.degrees(float(result.calculated_phi_rho[i, 0]))
+                rho_c = math.degrees(float(result.calculated_phi_rho[i, 1]))
+                row["calculated_phi_deg"] = phi_c
+                row["calculated_rho_deg"] = rho_c
+                # measured minus calculated; φ wrapped to (-180, 180]
+                d_phi = (row["measured_phi_deg"] - phi_c + 180.0) % 360.0 - 180.0
+                row["delta_phi_deg"] = d_phi
+                row["delta_rho_deg"] = row["measured_rho_deg"] - rho_c
         rows.append(row)
     return rows
 

@@ -32,6 +32,10 @@ def test_index_two_circle_json(runner):
     # e(101) of a tetragonal cell: tan ρ = |a*| / |c*| = c / a (closed form)
     assert faces["e1"]["calculated_rho_deg"] == pytest.approx(
         math.degrees(math.atan(2.9587 / 4.5937)), abs=0.05)
+    # measured − calculated (φ, ρ) of indexed faces stay within the 1° tolerance
+    for f in data["faces"]:
+        if f["indexed"]:
+            assert abs(f["delta_rho_deg"]) < 1.0 and abs(f["delta_phi_deg"]) < 3.0
     ref = data["refinement"]["parameters"]["c/a"]
     # rutile c/a = 0.64408 (HoM cell, [C]); invented readings with σ ~ 0.15°
     assert abs(ref["value"] - 2.9587 / 4.5937) < 4 * ref["su"]
