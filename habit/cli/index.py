@@ -147,7 +147,7 @@ def command(
         if cell is not None or len(args) != 1:
             raise InputError("with --system give only MEASUREMENTS (no CRYSTAL or --cell).")
         meas = read_measurements(args[0])
-        from habit.indexing import _trial_models
+        from habit.cellfit import _trial_models
 
         grid = _trial_models(system.lower(), 0.03)
         total = len(grid) + 21 if grid else 6

@@ -44,8 +44,8 @@ def command(
     """Draw the poles of the forms HKL of CRYSTAL on the upper hemisphere (c at the centre).
 
     Each HKL is expanded to its whole form. Without HKL the forms of a crystal file are
-    drawn, or else {100}, {010}, {001}, {110}, {101}, {011} and {111}. The pole of (010) is at the right, φ runs
-    clockwise; lower-hemisphere poles are open symbols.
+    drawn, or else {100}, {010}, {001}, {110}, {101}, {011} and {111}. The pole of (010)
+    is at the right, φ runs clockwise; lower-hemisphere poles are open symbols.
     """
     import math
     from pathlib import Path
