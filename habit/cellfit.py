@@ -34,6 +34,7 @@ from habit.indexing import (
     CellModel,
     IndexingResult,
     Orientation,
+    _angle,
     _as_model,
     _index,
     _normal_sets,
@@ -218,7 +219,7 @@ def _result_from_indices(model: CellModel, measurements: Measurements, hkl: Arra
         cn = _normals(recip, np.where(ok[:, None], h, 1))
         u = best_rotation(cn[ok], nm[ok], np.asarray(measurements.weights)[ok])
         orientation = Orientation(_readonly(u), _readonly(model.lattice), model.system)
-        res = np.arccos(np.clip(np.sum((cn @ u.T) * nm, axis=1), -1, 1))
+        res = _angle(cn @ u.T, nm)
     return IndexingResult(
         labels=measurements.labels, hkl=_readonly(h, np.int64), indexed=_readonly(ok, bool),
         residuals=_readonly(res), nearest_hkl=_readonly(h, np.int64),
@@ -319,7 +320,7 @@ def refine_cell(
 
         def resid(x: FloatArray) -> FloatArray:
             cn = _normals(recip_for(x), hkl)
-            calc = np.arccos(np.clip(np.sum(cn[pr[:, 0]] * cn[pr[:, 1]], axis=1), -1, 1))
+            calc = _angle(cn[pr[:, 0]], cn[pr[:, 1]])
             return (meas - calc) * sw
 
         x0 = x_shape
@@ -380,7 +381,7 @@ def refine_cell(
         assert u0 is not None
         u = _rotvec_matrix(x[p:]) @ u0
         cl = _normals(recip_for(x[:p]), hk) @ u.T
-        labels_res = np.arccos(np.clip(np.sum(cl * nm, axis=1), -1, 1))
+        labels_res = _angle(cl, nm)
         residuals = labels_res
         orientation = Orientation(_readonly(u), _readonly(refined.lattice), model.system)
     rms = float(np.sqrt(np.mean(residuals ** 2))) if len(residuals) else math.nan

@@ -188,6 +188,12 @@ def _unit(v: FloatArray) -> FloatArray:
     return v / np.linalg.norm(v, axis=-1, keepdims=True)
 
 
+def _angle(u: ArrayLike, v: ArrayLike) -> FloatArray:
+    """Angle between vectors along the last axis, accurate near 0 and π (atan2 form)."""
+    a, b = np.asarray(u, float), np.asarray(v, float)
+    return np.arctan2(np.linalg.norm(np.cross(a, b), axis=-1), np.sum(a * b, axis=-1))
+
+
 def _normals(reciprocal: FloatArray, hkl: ArrayLike) -> FloatArray:
     return _unit(np.asarray(hkl, dtype=float) @ reciprocal)
 
@@ -405,12 +411,12 @@ class Orientation:
     def angle_to_direction(self, lab_vector: ArrayLike, uvw: ArrayLike) -> FloatArray:
         """Angle (radians) between lab direction(s) and crystal direction(s) [uvw]."""
         v = _unit(np.asarray(lab_vector, float))
-        return np.arccos(np.clip(np.sum(v * self.directions_lab(uvw), axis=-1), -1.0, 1.0))
+        return _angle(v, self.directions_lab(uvw))
 
     def angle_to_normal(self, lab_vector: ArrayLike, hkl: ArrayLike) -> FloatArray:
         """Angle (radians) between lab direction(s) and face normal(s) (hkl)."""
         v = _unit(np.asarray(lab_vector, float))
-        return np.arccos(np.clip(np.sum(v * self.normals_lab(hkl), axis=-1), -1.0, 1.0))
+        return _angle(v, self.normals_lab(hkl))
 
     def to_crystal(self, lab_vector: ArrayLike) -> FloatArray:
         """Express lab vector(s) as direction components [uvw] (real numbers)."""
@@ -777,6 +783,7 @@ def _result_from(
     w = settings[k]
     hkl_new = hkl @ np.rint(np.linalg.inv(w)).astype(np.int64)
     u_new = u @ _cartesian_rotation(model.lattice, w).T
+    res = _angle(normals, cand_n[choice] @ u.T)  # precise residuals for the report
     shown = np.where(ok[:, None], hkl_new, 0)
     rms = float(np.sqrt(np.sum(weights[ok] * res[ok] ** 2) / np.sum(weights[ok]))) \
         if np.any(ok) else math.nan
@@ -785,7 +792,7 @@ def _result_from(
     if measurements.kind == "interfacial-angles":
         cn = _normals(recip, hkl_new)
         pr = measurements.pairs
-        calc = np.arccos(np.clip(np.sum(cn[pr[:, 0]] * cn[pr[:, 1]], axis=1), -1, 1))
+        calc = _angle(cn[pr[:, 0]], cn[pr[:, 1]])
         pair_res = np.where(ok[pr[:, 0]] & ok[pr[:, 1]], measurements.angles - calc, np.nan)
     orientation = Orientation(_readonly(u_new), _readonly(model.lattice), model.system) \
         if orientation_known else None
