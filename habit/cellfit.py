@@ -359,6 +359,16 @@ def refine_cell(
         x, jac = sol.x, sol.jac
         r = resid(x)
     q = len(x)
+    if q:
+        sv, vt = np.linalg.svd(jac, full_matrices=False)[1:]
+        if sv[-1] <= 1e-9 * max(float(sv[0]), 1e-300):
+            all_names = list(names) + ["rotation about x", "rotation about y",
+                                       "rotation about z"][: q - p]
+            free = [all_names[k] for k in np.nonzero(np.abs(vt[-1]) > 0.3)[0]]
+            raise InputError(
+                f"the indexed faces do not fix {' and '.join(free)}; measure faces outside "
+                "the zone(s) they share (e.g. faces with a non-zero l for c/a)."
+            )
     dof = int(len(r) - q)
     ssr = float(r @ r)
     if dof > 0 and q > 0:
@@ -596,6 +606,22 @@ def find_axial_ratios(
         For an unknown system.
     IndexingError
         When no cell of the system indexes the faces.
+
+    Examples
+    --------
+    Faces of an orthorhombic crystal with a : b : c = 0.5 : 1 : 0.8 (invented):
+
+    >>> from habit.indexing import CellModel
+    >>> from habit.measurements import measurements_from_arrays
+    >>> cell = CellModel((0.5, 1.0, 0.8, 90, 90, 90), "orthorhombic")
+    >>> hkl = np.array([[1, 0, 0], [0, 1, 0], [0, 0, 1], [1, 1, 0], [1, -1, 0], [0, 1, 1],
+    ...                 [0, -1, 1], [1, 0, 1], [-1, 0, 1], [1, 1, 1], [-1, 1, 1]])
+    >>> n = hkl @ cell.reciprocal
+    >>> m = measurements_from_arrays(normals=n / np.linalg.norm(n, axis=1, keepdims=True))
+    >>> res = find_axial_ratios("orthorhombic", m)
+    >>> edges = sorted(res.refinement.crystal.cell[:3])  # labels a, b, c may differ
+    >>> [round(float(e / edges[0]), 4) for e in edges]   # 0.5 : 0.8 : 1 = 1 : 1.6 : 2
+    [1.0, 1.6, 2.0]
     """
     if system not in SYSTEMS:
         raise UnknownSymbolError(f"unknown crystal system {system!r}; choose one of: "

@@ -559,6 +559,19 @@ def embed_angle_table(measurements: Measurements, *, max_branches: int = 64
     InputError
         If some face is linked to fewer than two others by measured angles (its position
         is not fixed), or there are fewer than three faces.
+
+    Examples
+    --------
+    >>> from habit.measurements import measurements_from_arrays
+    >>> t = measurements_from_arrays(pairs=[("a", "b"), ("a", "c"), ("b", "c")],
+    ...                              angles_deg=[90, 90, 90])
+    >>> v = embed_angle_table(t)[0]
+    >>> np.round(v @ v.T, 9).tolist()
+    [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]]
+    >>> embed_angle_table(measurements_from_arrays(pairs=[("a", "b")], angles_deg=[90]))
+    Traceback (most recent call last):
+    ...
+    habit.errors.InputError: an angle table needs at least three faces; got 2.
     """
     from scipy.optimize import least_squares
 

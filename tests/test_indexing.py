@@ -470,6 +470,15 @@ def test_refine_refuses_too_few_observations():
         refine_cell(start, m, [[1, 1, 0], [1, -1, 0]])
 
 
+def test_refine_refuses_parameters_the_faces_cannot_fix():
+    # prism faces (hk0) of a tetragonal crystal say nothing about c/a
+    hkl = np.array([[1, 0, 0], [0, 1, 0], [1, 1, 0], [1, -1, 0], [-1, 0, 0]])
+    n = hkl @ RUTILE.reciprocal
+    m = measurements_from_arrays(normals=n / np.linalg.norm(n, axis=1, keepdims=True))
+    with pytest.raises(InputError, match="do not fix c/a"):
+        refine_cell(RUTILE, m, hkl)
+
+
 def test_other_refusals():
     with pytest.raises(UnknownSymbolError, match="unknown crystal system"):
         CellModel((1, 1, 1, 90, 90, 90), "cubical")
