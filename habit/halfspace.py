@@ -36,6 +36,9 @@ __all__ = [
 ]
 
 _DEFAULT_TOL = Tolerances()
+_XYZ = np.arange(3)
+_ROLL1 = np.array([1, 2, 0])
+_ROLL2 = np.array([2, 0, 1])
 
 
 class HalfspaceIntersection(NamedTuple):
@@ -210,9 +213,9 @@ def polygon_frames(normals: FloatArray) -> tuple[FloatArray, FloatArray]:
 
 def _cross(a: FloatArray, b: FloatArray) -> FloatArray:
     """Row-wise cross product of two (N, 3) arrays (cheaper than np.cross on small arrays)."""
-    a0, a1, a2 = a[:, 0], a[:, 1], a[:, 2]
-    b0, b1, b2 = b[:, 0], b[:, 1], b[:, 2]
-    return np.stack([a1 * b2 - a2 * b1, a2 * b0 - a0 * b2, a0 * b1 - a1 * b0], axis=1)
+    # (a1 b2 - a2 b1, a2 b0 - a0 b2, a0 b1 - a1 b0) with rolled columns
+    out: FloatArray = a[:, _ROLL1] * b[:, _ROLL2] - a[:, _ROLL2] * b[:, _ROLL1]
+    return out
 
 
 def _merge_labels(close: BoolArray, neighbors: IntArray) -> IntArray:
@@ -300,7 +303,8 @@ def intersect_halfspaces(
     diff = verts_all[nbr] - verts_all[:, None, :]  # (S, 3, 3)
     close = np.einsum("ijk,ijk->ij", diff, diff) <= (tol.length * tol.length) * scale2  # (S, 3)
     plane = simp.ravel()  # (3S,) incidences (plane, vertex)
-    if close.any():
+    merged = bool(close.any())
+    if merged:
         lab = _merge_labels(close, nbr)
         reps, vid = np.unique(lab, return_inverse=True)
         vertices = verts_all[reps]
@@ -314,7 +318,9 @@ def intersect_halfspaces(
         nvert = nsimp
         vert = np.repeat(np.arange(nsimp), 3)
     counts = np.bincount(plane, minlength=nplanes)  # (N,)
-    if counts.max() > 0 and (counts[plane] < 3).any():
+    if merged and (counts[plane] < 3).any():
+        # faces left with fewer than 3 distinct vertices have shrunk to an edge or a point
+        # (without merging every hull vertex has >= 3 facets, so this cannot happen)
         keep = counts[plane] >= 3
         plane, vert = plane[keep], vert[keep]
         counts = np.bincount(plane, minlength=nplanes)
@@ -322,7 +328,8 @@ def intersect_halfspaces(
     # --- order each loop by angle about the mean of its vertices
     pv = vertices[vert]  # (M, 3)
     cnt = np.maximum(counts, 1)[:, None]
-    cen = np.stack([np.bincount(plane, pv[:, k], minlength=nplanes) for k in range(3)], 1) / cnt
+    slot = (plane * 3)[:, None] + _XYZ  # (M, 3): one bincount for all three coordinates
+    cen = np.bincount(slot.ravel(), pv.ravel(), minlength=3 * nplanes).reshape(-1, 3) / cnt
     r = pv - cen[plane]  # (M, 3) offsets from each face's vertex mean
     first = np.empty(nplanes, dtype=np.intp)
     first[plane[::-1]] = np.arange(plane.size - 1, -1, -1)  # first entry of each plane

@@ -31,6 +31,8 @@ __all__ = [
     "write_stl",
     "write_obj",
     "write_polyhedron_json",
+    "read_polyhedron_json",
+    "polyhedron_from_dict",
     "polyhedron_to_dict",
     "stl_bytes",
     "obj_text",
@@ -197,3 +199,65 @@ def write_polyhedron_json(poly: Polyhedron, path: str | os.PathLike[str]) -> Pat
     """Write :func:`polyhedron_to_dict` as indented JSON, atomically. Returns the path."""
     text = json.dumps(polyhedron_to_dict(poly), indent=2) + "\n"
     return atomic_write(path, text)
+
+
+def polyhedron_from_dict(data: Any) -> Polyhedron:
+    """Rebuild a polyhedron from :func:`polyhedron_to_dict` data.
+
+    The solid is the convex hull of ``vertices_A`` (``vertices`` is accepted too); the
+    face labels (``face_hkl``, ``form_ids``, ``form_labels``, ``face_labels``) are
+    re-attached by matching each face's normal to the stored ``face_normals``.
+
+    Raises
+    ------
+    FileFormatError
+        The data lack a list of vertices, or the faces do not match the stored normals.
+    """
+    if not isinstance(data, dict):
+        raise FileFormatError("a polyhedron JSON must be an object with a 'vertices_A' list.")
+    raw = data.get("vertices_A", data.get("vertices"))
+    try:
+        vertices = np.asarray(raw, dtype=np.float64)
+    except (TypeError, ValueError):
+        vertices = np.empty((0,))
+    if vertices.ndim != 2 or vertices.shape[1:] != (3,):
+        raise FileFormatError(
+            "a polyhedron JSON needs 'vertices_A': a list of [x, y, z] coordinates in Å."
+        )
+    poly = Polyhedron.from_vertices(vertices)
+    normals = data.get("face_normals")
+    if normals is None:
+        return poly
+    stored = np.asarray(normals, dtype=np.float64).reshape(-1, 3)
+    cos = poly.normals @ stored.T  # (F, F_stored)
+    match = cos.argmax(axis=1)
+    if stored.shape[0] != poly.n_faces or not np.allclose(cos.max(axis=1), 1.0, atol=1e-6):
+        raise FileFormatError("the stored face normals do not match the faces of the vertices.")
+    labels: dict[str, Any] = {}
+    if data.get("face_hkl") is not None:
+        labels["hkl"] = np.asarray(data["face_hkl"], dtype=np.int64)[match]
+    if data.get("form_ids") is not None:
+        labels["form_ids"] = np.asarray(data["form_ids"], dtype=np.int64)[match]
+    if data.get("form_labels") is not None:
+        labels["form_labels"] = [str(x) for x in data["form_labels"]]
+    if data.get("face_labels") is not None:
+        labels["face_labels"] = [str(data["face_labels"][i]) for i in match]
+    return poly.with_labels(**labels) if labels else poly
+
+
+def read_polyhedron_json(path: str | os.PathLike[str]) -> Polyhedron:
+    """Read a polyhedron written by :func:`write_polyhedron_json`.
+
+    Raises
+    ------
+    FileFormatError
+        Missing file, invalid JSON, or no vertex list.
+    """
+    target = Path(path)
+    try:
+        data = json.loads(target.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise FileFormatError(f"no such file: {target}.") from None
+    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+        raise FileFormatError(f"{target} is not valid JSON ({exc}).") from None
+    return polyhedron_from_dict(data)

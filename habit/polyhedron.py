@@ -48,6 +48,14 @@ def _frozen(a: Any, dtype: Any) -> Any:
     return arr
 
 
+def _is_integral(a: np.ndarray) -> bool:
+    if np.issubdtype(a.dtype, np.integer):
+        return True
+    if not np.issubdtype(a.dtype, np.floating):
+        return False
+    return bool(np.isfinite(a).all() and (a == np.round(a)).all())
+
+
 def fan_triangles(face_offsets: IntArray) -> tuple[IntArray, IntArray]:
     """Split every face loop into a fan of triangles from its first vertex.
 
@@ -305,12 +313,14 @@ class Polyhedron:
             h = np.asarray(hkl)
             if h.shape != (nplanes, 3):
                 raise InputError(f"hkl must be ({nplanes}, 3) like the normals; got {h.shape}.")
+            if not _is_integral(h):
+                raise InputError("hkl must hold integers (Miller indices).")
             hkl_f = h[pid]
         if form_ids is None:
             fid = pid
         else:
             f = np.asarray(form_ids)
-            if f.shape != (nplanes,) or (f < 0).any():
+            if f.shape != (nplanes,) or not _is_integral(f) or (f < 0).any():
                 raise InputError(
                     f"form_ids must be {nplanes} integers >= 0, one per plane; got shape {f.shape}."
                 )
@@ -322,7 +332,9 @@ class Polyhedron:
                     f"face_labels needs one label per plane ({nplanes}); got {len(face_labels)}."
                 )
             labels = tuple(str(face_labels[i]) for i in pid)
-        return cls(
+        if hkl_f is not None:
+            hkl_f = hkl_f.astype(np.int64, copy=False)
+        return cls._trusted(
             vertices=res.vertices,
             face_vertices=res.face_vertices,
             face_offsets=res.face_offsets,
@@ -330,12 +342,28 @@ class Polyhedron:
             distances=res.distances[pid],
             face_areas=res.face_areas,
             hkl=hkl_f,
-            form_ids=fid,
-            form_labels=None if form_labels is None else tuple(form_labels),
+            form_ids=fid.astype(np.int64, copy=False),
+            form_labels=None if form_labels is None else tuple(str(x) for x in form_labels),
             face_labels=labels,
             plane_ids=pid,
             n_planes=nplanes,
+            vertex_hkl=None,
         )
+
+    @classmethod
+    def _trusted(cls, **fields: Any) -> Polyhedron:
+        """Build from arrays this module has just computed (fresh, right dtypes, owned).
+
+        Skips the copies and checks of ``__post_init__``; the arrays are only made
+        read-only. Every field must be given.
+        """
+        obj = object.__new__(cls)
+        for name, value in fields.items():
+            if isinstance(value, np.ndarray):
+                value.setflags(write=False)
+            object.__setattr__(obj, name, value)
+        object.__setattr__(obj, "_cache", {})
+        return obj
 
     @classmethod
     def from_vertices(cls, points: ArrayLike, *, tol: Tolerances = _DEFAULT_TOL) -> Polyhedron:
@@ -405,7 +433,7 @@ class Polyhedron:
         return self._replace(plane_ids=None, n_planes=0, form_ids=None)
 
     def _replace(self, **changes: Any) -> Polyhedron:
-        kw = {
+        kw: dict[str, Any] = {
             "vertices": self.vertices,
             "face_vertices": self.face_vertices,
             "face_offsets": self.face_offsets,
@@ -512,7 +540,7 @@ class Polyhedron:
     def area_by_form(self) -> FloatArray:
         """Area of each form (indexed by form id), Å², (n_forms,)."""
         fid = np.asarray(self.form_ids)
-        return np.bincount(fid, self.face_areas, minlength=self.n_forms)
+        return np.bincount(fid, self.face_areas, minlength=self.n_forms).astype(np.float64)
 
     @property
     def area_fractions_by_form(self) -> FloatArray:
@@ -525,14 +553,14 @@ class Polyhedron:
         """Length of each edge, Å, (E,)."""
         e = self.edges
         diff = self.vertices[e[:, 1]] - self.vertices[e[:, 0]]
-        return np.sqrt(np.einsum("ij,ij->i", diff, diff))
+        return np.asarray(np.sqrt(np.einsum("ij,ij->i", diff, diff)), dtype=np.float64)
 
     @property
     def interfacial_angles(self) -> FloatArray:
         """Angle between the normals of the two faces at each edge, radians, (E,)."""
         ef = self.edge_faces
         c = np.einsum("ij,ij->i", self.normals[ef[:, 0]], self.normals[ef[:, 1]])
-        return np.arccos(np.clip(c, -1.0, 1.0))
+        return np.asarray(np.arccos(np.clip(c, -1.0, 1.0)), dtype=np.float64)
 
     @property
     def dihedral_angles(self) -> FloatArray:
@@ -590,7 +618,7 @@ class Polyhedron:
         cosv = np.einsum("ij,ij->i", a, b) / np.sqrt(
             np.einsum("ij,ij->i", a, a) * np.einsum("ij,ij->i", b, b)
         )
-        return np.arccos(np.clip(cosv, -1.0, 1.0))
+        return np.asarray(np.arccos(np.clip(cosv, -1.0, 1.0)), dtype=np.float64)
 
     @property
     def angle_defects(self) -> FloatArray:

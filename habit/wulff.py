@@ -342,6 +342,7 @@ def wulff_shape(
     n_forms = len(hkls)
     areas = np.bincount(poly.form_ids, weights=poly.face_areas, minlength=n_forms)
     total = float(areas.sum())
+    on_shape = set(poly.form_ids.tolist())
     results = []
     for i, hkl in enumerate(hkls):
         results.append(
@@ -354,7 +355,7 @@ def wulff_shape(
                 distance=values[i],
                 area=float(areas[i]),
                 area_fraction=float(areas[i] / total),
-                present=bool(areas[i] > tol.area * total),
+                present=i in on_shape,
             )
         )
     mean = None

@@ -263,6 +263,19 @@ def test_bad_shapes_raise() -> None:
         Polyhedron.from_halfspaces(z, np.ones(6))
     with pytest.raises(HabitError):
         Polyhedron.from_halfspaces(CUBE_NORMALS, np.ones(6), hkl=np.ones((5, 3)))
+    with pytest.raises(InputError, match="integers"):
+        Polyhedron.from_halfspaces(CUBE_NORMALS, np.ones(6), hkl=np.full((6, 3), 0.5))
+    with pytest.raises(InputError, match="form_ids"):
+        Polyhedron.from_halfspaces(CUBE_NORMALS, np.ones(6), form_ids=[0.5] * 6)
+
+
+def test_repeated_planes_give_one_face() -> None:
+    n = np.vstack([CUBE_NORMALS, CUBE_NORMALS])
+    p = Polyhedron.from_halfspaces(n, np.r_[np.ones(6), 0.5 * np.ones(6)])
+    assert p.present.tolist() == [False] * 6 + [True] * 6
+    assert p.volume == pytest.approx(1.0, rel=1e-12)
+    same = Polyhedron.from_halfspaces(n, np.ones(12))
+    assert same.n_faces == 6 and same.volume == pytest.approx(8.0, rel=1e-12)
 
 
 def test_redundant_planes_are_absent_and_reported() -> None:

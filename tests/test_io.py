@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import io
 import json
 import math
 import os
@@ -15,12 +14,13 @@ from habit.errors import FileFormatError
 from habit.io import (
     obj_text,
     polyhedron_to_dict,
+    read_polyhedron_json,
     stl_bytes,
     write_obj,
     write_polyhedron_json,
     write_stl,
 )
-from habit.polyhedron import Polyhedron
+from habit.polyhedron import Polyhedron, fan_triangles
 
 SQ3 = math.sqrt(3.0)
 
@@ -71,7 +71,7 @@ def test_stl_general_shape_float32(tmp_path) -> None:
     # STL stores float32: compare with the same polyhedron rounded to float32 (1e-9), and
     # with the exact one at float32 precision (1e-6).
     rounded = p.vertices.astype(np.float32).astype(float)
-    corners, _ = __import__("habit.polyhedron", fromlist=["x"]).fan_triangles(p.face_offsets)
+    corners, _ = fan_triangles(p.face_offsets)
     ref32 = _mesh_volume(rounded[p.face_vertices[corners]])
     assert mesh.volume == pytest.approx(ref32, rel=1e-9)
     assert mesh.volume == pytest.approx(p.volume, rel=1e-6)
@@ -144,4 +144,24 @@ def test_writes_are_atomic(tmp_path, monkeypatch) -> None:
     # the old file is untouched and no temporary file is left behind
     assert target.read_text() == "old"
     assert sorted(os.listdir(tmp_path)) == ["keep.obj"]
-    assert io.BytesIO(b"").read() == b""
+
+
+def test_json_read_back(tmp_path) -> None:
+    p = truncated_octahedron()
+    back = read_polyhedron_json(write_polyhedron_json(p, tmp_path / "s.json"))
+    assert back.volume == pytest.approx(p.volume, rel=1e-12)
+    assert (back.n_vertices, back.n_edges, back.n_faces) == (24, 36, 14)
+    # labels follow the faces: each face's hkl is parallel to its normal (cubic)
+    hkl = back.hkl / np.linalg.norm(back.hkl, axis=1)[:, None]
+    assert np.einsum("ij,ij->i", hkl, back.normals) == pytest.approx(np.ones(14))
+    assert back.form_labels == ("{100}", "{111}")
+    assert sorted(back.area_by_form) == pytest.approx(sorted(p.area_by_form))
+    bad = tmp_path / "bad.json"
+    bad.write_text('{"faces": []}')
+    with pytest.raises(FileFormatError, match="vertices_A"):
+        read_polyhedron_json(bad)
+    bad.write_text("{not json")
+    with pytest.raises(FileFormatError, match="not valid JSON"):
+        read_polyhedron_json(bad)
+    with pytest.raises(FileFormatError, match="no such file"):
+        read_polyhedron_json(tmp_path / "none.json")

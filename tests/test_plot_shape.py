@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 import os
 
 import matplotlib
@@ -113,4 +112,15 @@ def test_save_figure_refuses_bad_names(tmp_path) -> None:
     with pytest.raises(FileFormatError, match="does not exist"):
         save_figure(art.faces.axes.figure, tmp_path / "no" / "shape.png")
     assert os.listdir(tmp_path) == []
-    assert math.isfinite(CLINOGRAPHIC_AZIMUTH_DEG)
+
+
+def test_draws_into_a_given_axes() -> None:
+    from matplotlib.figure import Figure
+
+    fig = Figure()
+    ax = fig.add_subplot(projection="3d")
+    art = plot_polyhedron(shape(), ax=ax, azimuth_deg=0.0, elevation_deg=0.0)
+    assert art.faces.axes is ax and art.faces in ax.collections
+    # looking along -x: only (100) and the {111} faces with h > 0 face the eye
+    visible = {tuple(h) for h in shape().hkl[art.visible].tolist()}
+    assert visible == {(1, 0, 0), (1, 1, 1), (1, 1, -1), (1, -1, 1), (1, -1, -1)}

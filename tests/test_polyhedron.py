@@ -298,3 +298,17 @@ def test_labels_and_forms() -> None:
     with pytest.raises(InputError, match="one label per face"):
         p.with_labels(face_labels=["x"])
     assert p.present.tolist() == [True] * 14
+
+
+def test_dual_of_a_shape_away_from_the_origin_uses_its_centroid() -> None:
+    cube = Polyhedron.from_halfspaces(CUBE_NORMALS, np.ones(6)).translated([10.0, 0.0, 0.0])
+    res = cube.dual(scale=1.0)
+    assert res.centre == pytest.approx([10.0, 0.0, 0.0])
+    octa = res.polyhedron
+    assert (octa.n_vertices, octa.n_faces) == (6, 8)
+    # vertices at centre + rho^2 n / d = centre + n (rho = 1, d = 1)
+    assert octa.vertices[res.vertex_of_face] == pytest.approx(cube.normals + [10.0, 0.0, 0.0])
+    with pytest.raises(InputError, match="strictly inside"):
+        cube.dual(centre=[0.0, 0.0, 0.0])
+    with pytest.raises(InputError, match="scale"):
+        cube.dual(scale="circumsphere")  # type: ignore[arg-type]

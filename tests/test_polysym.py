@@ -170,3 +170,25 @@ def _close(gens: list[np.ndarray]) -> np.ndarray:
                     new.append(b)
         frontier = new
     return np.array(ops)
+
+
+SPECIAL_RATIOS = [1.0, 2 / 3**0.5, 3**0.5 / 2, 3**0.5, 1 / 3**0.5, 2**0.5, 1 / 2**0.5, 1.5**0.5]
+FAMILIES = [(1, 0, 0), (1, 1, 0), (1, 1, 1), (2, 1, 0), (2, 1, 1), (2, 2, 1)]
+
+
+@pytest.mark.parametrize("seed", range(12))
+def test_threshold_combinations_stay_closed_and_cubic(seed: int) -> None:
+    # Distances at threshold ratios make many planes meet in one vertex or faces shrink to
+    # edges; under a random rotation the merged result must still be a closed convex
+    # surface (Euler 2, Descartes 4 pi) with the full m-3m group of the planes.
+    rng = np.random.default_rng(seed)
+    chosen = rng.choice(len(FAMILIES), size=3, replace=False)
+    forms = {FAMILIES[i]: float(rng.choice(SPECIAL_RATIOS)) for i in chosen}
+    n, d, hkl, fid = cubic_planes(forms)
+    rot = random_rotation(rng)
+    p = Polyhedron.from_halfspaces(n @ rot.T, d, hkl=hkl, form_ids=fid)
+    assert p.euler_characteristic == 2
+    assert p.angle_defects.sum() == pytest.approx(4 * np.pi, rel=1e-9)
+    s = symmetry_of(p)
+    assert (s.order, s.hm) == (48, "m-3m")
+    assert symmetry_of(p, by_form=True).order == 48

@@ -13,8 +13,6 @@ def resolve_shape(spec: str) -> tuple[Any, str]:
     polyhedron JSON file written by habit (``--export shape.json``), and a crystal (CIF,
     crystal TOML or bundled name) whose Wulff shape is meant.
     """
-    import json
-
     from habit.errors import FileFormatError, UnknownSymbolError
     from habit.polyhedron import Polyhedron
     from habit.solids import reference_polyhedron
@@ -25,16 +23,11 @@ def resolve_shape(spec: str) -> tuple[Any, str]:
         pass
     path = Path(spec)
     if path.suffix.lower() == ".json":
+        from habit.io import read_polyhedron_json
+
         if not path.is_file():
             raise FileFormatError(f"no such file: {path}.")
-        try:
-            data = json.loads(path.read_text())
-            vertices = data["vertices"]
-        except (json.JSONDecodeError, KeyError, TypeError, UnicodeDecodeError):
-            raise FileFormatError(
-                f"{path} is not a polyhedron JSON (it needs a 'vertices' list of [x, y, z])."
-            ) from None
-        return Polyhedron.from_vertices(vertices), f"{path.name} (polyhedron JSON)"
+        return read_polyhedron_json(path), f"{path.name} (polyhedron JSON)"
     from habit.crystal import load_crystal
     from habit.wulff import wulff_shape
 

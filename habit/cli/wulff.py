@@ -7,6 +7,7 @@ from typing import Any
 import click
 
 from habit.cli._common import crystal_options, json_option
+from habit.cli._substrate import substrate_options
 
 KIND_UNITS = {"energy": "J/m²", "distance": "relative", "rate": "relative"}
 
@@ -125,6 +126,7 @@ def print_report(report: dict[str, Any], crystal_line: str) -> None:
     "--view", metavar="AZIM,ELEV", help="View direction in degrees (default clinographic)."
 )
 @click.option("--export", "export_path", metavar="FILE", help="Write the solid (.stl, .obj).")
+@substrate_options
 @json_option
 def command(
     args: tuple[str, ...],
@@ -136,6 +138,10 @@ def command(
     plot_path: str | None,
     view: str | None,
     export_path: str | None,
+    substrate: str | None,
+    adhesion: float | None,
+    interface_energy: float | None,
+    substrate_energy: float | None,
     json_path: str | None,
 ) -> None:
     """Build the Wulff shape of CRYSTAL and print its form table.
@@ -158,8 +164,20 @@ def command(
     shape = wulff_shape(crystal, forms, kind=kind)
     report = shape_report(shape)
     report["crystal"] = crystal_json(crystal)
+    from habit.cli import _substrate as sub
+
+    extra = (adhesion, interface_energy, substrate_energy)
+    particle = sub.supported_particle(shape, substrate, *extra)
+    if particle is not None:
+        h0 = min(f.distance for f in shape.forms)
+        report["substrate"] = sub.substrate_report(particle, h0)
+        if particle.polyhedron is None and outputs:
+            raise InputError("a film has no particle shape to draw or export.")
+        shape = particle  # draw and export the supported particle
     if json_path != "-":
         print_report(report, crystal_header(crystal))
+        if particle is not None:
+            sub.print_substrate(report["substrate"])
     if plot_path:
         draw_shape(shape, plot_path, _parse_view(view))
     if export_path:

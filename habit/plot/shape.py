@@ -16,13 +16,12 @@ Only this module (within habit's shape code) imports matplotlib, inside the func
 from __future__ import annotations
 
 import math
-import os
 from collections.abc import Sequence
-from pathlib import Path
 from typing import Any, NamedTuple
 
 import numpy as np
 
+from habit.plot import save_figure
 from habit.polyhedron import Polyhedron
 
 __all__ = [
@@ -299,53 +298,3 @@ def plot_polyhedron(
     ax.set_box_aspect((1.0, 1.0, 1.0))
     ax.set_axis_off()
     return ShapeArtists(coll, edges, hidden, texts, leg, visible, rgba)
-
-
-def save_figure(fig: Any, path: str | os.PathLike[str], *, dpi: float = 200.0) -> Path:
-    """Save a figure as PNG, SVG or PDF (by the file suffix), atomically.
-
-    The figure is rendered into a temporary file beside ``path`` and moved into place
-    with ``os.replace``, so a failure never leaves a partial file.
-
-    Parameters
-    ----------
-    fig : matplotlib Figure
-        The figure.
-    path : str or path-like
-        Target; suffix ``.png``, ``.svg`` or ``.pdf``.
-    dpi : float
-        Resolution for PNG, dots per inch.
-
-    Returns
-    -------
-    pathlib.Path
-
-    Raises
-    ------
-    FileFormatError
-        Unknown suffix or missing folder.
-    """
-    import contextlib
-    import tempfile
-
-    from habit.errors import FileFormatError
-
-    target = Path(path)
-    fmt = target.suffix.lower().lstrip(".")
-    if fmt not in {"png", "svg", "pdf"}:
-        raise FileFormatError(
-            f"cannot save a figure as {target.name!r}: use a .png, .svg or .pdf file name."
-        )
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise FileFormatError(f"cannot write {target}: folder {folder} does not exist.")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
-    os.close(fd)
-    try:
-        fig.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight")
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise
-    return target
