@@ -55,6 +55,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 import math
 from collections.abc import Callable, Sequence
@@ -482,6 +483,9 @@ class IndexingResult:
         angle (radians), NaN where a face is flagged.
     calculated_phi_rho : (N, 2) float array or None
         (φ, ρ) radians of the calculated normals in the measurement's convention.
+    alternatives : tuple of (int, float)
+        Other, inequivalent indexings the search found, as (faces indexed, RMS radians),
+        best first — evidence of how clear-cut the answer is.
     """
 
     labels: tuple[str, ...]
@@ -500,6 +504,7 @@ class IndexingResult:
     pairs: IntArray = field(default_factory=lambda: _readonly(np.zeros((0, 2)), np.int64))
     pair_residuals: FloatArray = field(default_factory=lambda: _readonly(np.zeros(0)))
     calculated_phi_rho: FloatArray | None = None
+    alternatives: tuple[tuple[int, float], ...] = ()
 
     @property
     def flagged(self) -> tuple[str, ...]:
@@ -944,7 +949,14 @@ def _index(
     results.sort(key=lambda r: (-r.n_indexed, int(_simplicity(r.hkl, hex_axes).sum()), r.rms))
     if not results or results[0].n_indexed < need:
         raise IndexingError(_no_fit_message(results, n, tolerance, max_index), results[:3])
-    return results[0]
+    best = results[0]
+    others: list[tuple[int, float]] = []
+    seen = [best.hkl]
+    for r in results[1:]:
+        if not any(np.array_equal(r.hkl, h) for h in seen):
+            seen.append(r.hkl)
+            others.append((r.n_indexed, r.rms))
+    return dataclasses.replace(best, alternatives=tuple(others))
 
 
 def _no_fit_message(results: list[IndexingResult], n: int, tol: float, max_index: int) -> str:

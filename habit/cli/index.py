@@ -95,6 +95,8 @@ def print_indexing(crystal: Any, measurements: Any, result: Any, rows: list[dict
                f"{math.degrees(result.rms):.3f}° (tolerance {math.degrees(result.tolerance):.2f}°, "
                f"indices up to {result.max_index}); {result.equivalent_settings} equivalent "
                "settings, the one with most non-negative indices shown.")
+    for k, r in result.alternatives[:2]:
+        click.echo(f"Another indexing fits {k} faces (RMS {math.degrees(r):.3f}°).")
     if measurements.kind == "interfacial-angles":
         click.echo("Angle table: no orientation is fixed by interfacial angles alone.")
 
@@ -179,6 +181,8 @@ def command(
         "max_index": result.max_index,
         "setting_matrix": result.setting,
         "equivalent_settings": result.equivalent_settings,
+        "alternatives": [{"indexed": k, "rms_deg": math.degrees(r)}
+                         for k, r in result.alternatives],
         "orientation_matrix": None if result.orientation is None else result.orientation.matrix,
     })
     if meas.kind == "interfacial-angles":
