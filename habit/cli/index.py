@@ -98,6 +98,18 @@ def print_indexing(crystal: Any, measurements: Any, result: Any, rows: list[dict
     for k, r in result.alternatives[:2]:
         click.echo(f"Another indexing fits {k} faces (RMS {math.degrees(r):.3f}°).")
     if measurements.kind == "interfacial-angles":
+        click.echo(f"\n{'faces':<{2 * w}}{'measured (°)':>14}{'calculated (°)':>16}"
+                   f"{'meas − calc (°)':>17}")
+        for (i, j), a, r in zip(measurements.pairs.tolist(), measurements.angles,
+                                result.pair_residuals, strict=True):
+            pair = f"{measurements.labels[i]} ∧ {measurements.labels[j]}"
+            meas_deg = math.degrees(float(a))
+            if math.isnan(float(r)):
+                click.echo(f"{pair:<{2 * w}}{meas_deg:>14.2f}{'—':>16}{'—':>17}")
+            else:
+                calc = meas_deg - math.degrees(float(r))
+                click.echo(f"{pair:<{2 * w}}{meas_deg:>14.2f}{calc:>16.2f}"
+                           f"{math.degrees(float(r)):>17.2f}")
         click.echo("Angle table: no orientation is fixed by interfacial angles alone.")
 
 
