@@ -21,9 +21,9 @@ Method (indexing with a known cell)
    (within twice the tolerance) gives an orientation by two-vector alignment. Only one
    face of each symmetry orbit of the lattice is tried as the first member of a pair,
    since the others give equivalent orientations.
-3. Each orientation is scored on *all* faces: the number of faces lying within the
-   tolerance of some candidate normal, then the simplicity of the indices, then the sum
-   of squared residuals. The best consensus wins (a deterministic variant of random
+3. Each orientation is scored on *all* faces: each face within the tolerance of some
+   candidate normal counts 1/(1 + s/4)·(1 − ½(r/tol)²), s = Σ|h|, r its residual; ties
+   go to the simpler indices, then to the smaller sum of squared residuals. The best consensus wins (a deterministic variant of random
    sample consensus [1]_).
 4. The winning orientation is refined by weighted least squares (the Kabsch / Wahba
    solution [2]_, [3]_), faces are re-assigned and the two steps repeated until the
@@ -672,6 +672,21 @@ class _Hypothesis:
     inliers: int
     simplicity: int
     sse: float
+    support: float = 0.0
+
+
+def _support(simplicity: ArrayLike, residuals: ArrayLike, inside: ArrayLike, tol: float
+             ) -> Any:
+    """Consensus score: each indexed face counts 1/(1 + s/4)·(1 − ½(r/tol)²).
+
+    s is the face's simplicity (Σ|h|). Simple indices and small residuals count more, so
+    an orientation that explains one more face only by a complex index and a residual
+    near the tolerance (what chance coincidences look like) does not beat one that
+    explains the other faces simply (the law of rational indices).
+    """
+    s = np.asarray(simplicity, float)
+    r = np.asarray(residuals, float) / tol
+    return np.where(inside, (1.0 - 0.5 * r * r) / (1.0 + 0.25 * s), 0.0).sum(axis=-1)
 
 
 def _assign(normals_c: FloatArray, cand_n: FloatArray, cand_simp: IntArray, tol: float
@@ -738,9 +753,11 @@ def _search(
             inl = ok.sum(axis=1)
             sim = np.where(ok, simp[k], 0).sum(axis=1)
             sse = np.where(ok, weights[None, :] * res ** 2, 0.0).sum(axis=1)
-            for h in np.lexsort((sse, sim, -inl))[:keep]:
-                best.append(_Hypothesis(chunk[h], int(inl[h]), int(sim[h]), float(sse[h])))
-            best.sort(key=lambda t: (-t.inliers, t.simplicity, t.sse))
+            sup = np.round(_support(simp[k], res, ok, tol), 9)
+            for h in np.lexsort((sse, sim, -sup))[:keep]:
+                best.append(_Hypothesis(chunk[h], int(inl[h]), int(sim[h]), float(sse[h]),
+                                        float(sup[h])))
+            best.sort(key=lambda t: (-t.support, t.simplicity, t.sse))
             best = _distinct(best, keep)
         if progress is not None:
             progress(done + 1)
@@ -946,7 +963,12 @@ def _index(
                                         tolerance, measurements, tried, max_index, known))
         if results and max(r.n_indexed for r in results) == n:
             break
-    results.sort(key=lambda r: (-r.n_indexed, int(_simplicity(r.hkl, hex_axes).sum()), r.rms))
+    def key(r: IndexingResult) -> tuple[float, int, float]:
+        simp = _simplicity(r.nearest_hkl, hex_axes)
+        support = float(np.round(_support(simp, r.residuals, r.indexed, tolerance), 9))
+        return (-support, int(simp[r.indexed].sum()), r.rms)
+
+    results.sort(key=key)
     if not results or results[0].n_indexed < need:
         raise IndexingError(_no_fit_message(results, n, tolerance, max_index), results[:3])
     best = results[0]
