@@ -338,6 +338,33 @@ def test_calcite_axial_ratio_from_cleavage_rhomb():
     assert ref.values[0] == pytest.approx(0.8543, abs=4e-4)
 
 
+def test_weights_scale_free_and_effective():
+    # invariants of weighted least squares: scaling every σ by the same factor changes
+    # neither the values nor the (fit-scaled) uncertainties; a face given a huge σ no
+    # longer pulls the solution.
+    meas, hkl, bad, _ = synthetic(RUTILE, [(1, 1, 0), (1, 0, 1), (1, 1, 1)], 21)
+    hkl_all = np.insert(hkl, bad, 0, axis=0)  # the spurious face left out (zero row)
+    normals = np.asarray(meas.normals)
+
+    def fit(sigmas):
+        m = measurements_from_arrays(normals=normals, sigma_deg=sigmas, normalize=True)
+        return refine_cell(RUTILE, m, hkl_all)
+
+    base = fit(np.full(len(normals), 0.2))
+    scaled = fit(np.full(len(normals), 0.7))
+    assert scaled.values == pytest.approx(base.values, abs=1e-10)
+    assert scaled.uncertainties == pytest.approx(base.uncertainties, rel=1e-6)
+    # spoil one true face by 5°: with its σ = 100° it hardly matters
+    spoiled = normals.copy()
+    k = 0 if bad != 0 else 1
+    spoiled[k] = tilt(spoiled[k:k + 1], [math.radians(5.0)], np.random.default_rng(0))[0]
+    sig = np.full(len(normals), 0.2)
+    sig[k] = 100.0
+    m = measurements_from_arrays(normals=spoiled, sigma_deg=sig, normalize=True)
+    down = refine_cell(RUTILE, m, hkl_all)
+    assert abs(down.values[0] - base.values[0]) < base.uncertainties[0]
+
+
 def test_zircon_axial_ratio_from_bournon():
     # Bournon (1817, Transactions of the Geological Society of London, 1st series, 4)
     # measured the dihedral angle over the base edge of the zircon bipyramid P on P as

@@ -7,6 +7,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from habit.errors import FileFormatError, InputError
 from habit.measurements import (
@@ -125,3 +127,21 @@ def test_measurements_are_frozen():
         m.kind = "normals"  # type: ignore[misc]
     with pytest.raises(ValueError):
         m.normals[0, 0] = 2.0
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    rows=st.lists(
+        st.tuples(st.floats(-360, 360), st.floats(0, 180), st.floats(0.01, 5.0)),
+        min_size=1, max_size=8,
+    )
+)
+def test_two_circle_csv_round_trip(rows):
+    # invariant: numbers written to a CSV come back unchanged (repr round trip)
+    lines = ["label,phi_deg,rho_deg,sigma_deg"]
+    lines += [f"f{i},{p!r},{r!r},{s!r}" for i, (p, r, s) in enumerate(rows)]
+    m = parse_measurements("\n".join(lines) + "\n", "csv")
+    assert np.degrees(m.phi) == pytest.approx([p for p, _, _ in rows], abs=1e-9)
+    assert np.degrees(m.rho) == pytest.approx([r for _, r, _ in rows], abs=1e-9)
+    assert np.linalg.norm(m.normals, axis=1) == pytest.approx(np.ones(len(rows)))
+    assert m.weights == pytest.approx([math.radians(s) ** -2 for _, _, s in rows])

@@ -110,3 +110,12 @@ def test_bad_input_gives_one_line_and_no_file(runner, tmp_path):
     assert result.exit_code == 1 and not out.exists()
     result = runner.invoke(main, ["orient", *RUTILE_CELL, QUARTZ_TABLE])
     assert result.exit_code == 1 and "fixes no orientation" in result.output
+
+
+def test_stereo_uses_the_forms_of_a_crystal_file(runner, tmp_path):
+    # the bundled quartz crystal file lists m{10-10}, r{10-11} and z{01-11}
+    png = tmp_path / "q.png"
+    result = runner.invoke(main, ["stereo", "quartz", "--plot", str(png), "--json", "-"])
+    assert result.exit_code == 0, result.output
+    faces = {p["face"] for p in json.loads(result.output)["poles"]}
+    assert {"(10-10)", "(10-11)", "(01-11)"} <= faces
