@@ -23,8 +23,8 @@ Method (indexing with a known cell)
    since the others give equivalent orientations.
 3. Each orientation is scored on *all* faces: each face within the tolerance of some
    candidate normal counts 1/(1 + s/4)·(1 − ½(r/tol)²), s = Σ|h|, r its residual; ties
-   go to the simpler indices, then to the smaller sum of squared residuals. The best consensus wins (a deterministic variant of random
-   sample consensus [1]_).
+   go to the simpler indices, then to the smaller sum of squared residuals. The best
+   consensus wins (a deterministic variant of random sample consensus [1]_).
 4. The winning orientation is refined by weighted least squares (the Kabsch / Wahba
    solution [2]_, [3]_), faces are re-assigned and the two steps repeated until the
    assignment is stable.
