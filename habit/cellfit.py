@@ -131,7 +131,7 @@ def _rotvec_matrix(v: FloatArray) -> FloatArray:
     return np.eye(3) + math.sin(theta) * kx + (1 - math.cos(theta)) * kx @ kx
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)  # holds arrays: compared by identity
 class CellRefinement:
     """Least-squares cell shape (and orientation) from indexed faces.
 
@@ -181,7 +181,7 @@ class CellRefinement:
                 zip(self.names, self.values, self.uncertainties, strict=True)}
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)  # holds arrays: compared by identity
 class AxialRatioResult:
     """Cell shape found from angles when only the crystal system was known.
 

@@ -378,7 +378,7 @@ def best_rotation(crystal: ArrayLike, lab: ArrayLike, weights: ArrayLike | None 
 # ---------------------------------------------------------------------------- results
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)  # holds arrays: compared by identity
 class Orientation:
     """The orientation of a crystal in the laboratory (goniometer) frame.
 
@@ -446,7 +446,7 @@ class Orientation:
         return self.axes_lab()[2]
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)  # holds arrays: compared by identity
 class IndexingResult:
     """Indices of measured faces under one orientation, with the evidence.
 

@@ -53,7 +53,7 @@ def _readonly(a: Any, dtype: Any = float) -> Any:
     return arr
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)  # holds arrays: compared by identity
 class Measurements:
     """A set of measured faces.
 
