@@ -465,6 +465,13 @@ def _parse_toml(text: str, where: str, normalize: bool) -> Measurements:
                 if not isinstance(entry, dict) or "faces" not in entry or "angle_deg" not in entry:
                     raise FileFormatError(f"{where}: [[angle]] number {k + 1} needs faces = "
                                           "[\"A\", \"B\"] and angle_deg.")
+                unknown = sorted(set(entry) - {"faces", "angle_deg", "sigma_deg", "weight",
+                                               "note"})
+                if unknown:
+                    raise FileFormatError(
+                        f"{where}: [[angle]] number {k + 1} has unknown key {unknown[0]!r}; "
+                        "allowed: faces, angle_deg, sigma_deg, weight, note."
+                    )
                 pair = entry["faces"]
                 if not isinstance(pair, list) or len(pair) != 2:
                     raise FileFormatError(f"{where}: [[angle]] number {k + 1}: faces must list "
@@ -483,6 +490,16 @@ def _parse_toml(text: str, where: str, normalize: bool) -> Measurements:
         for k, entry in enumerate(faces):
             if not isinstance(entry, dict):
                 raise FileFormatError(f"{where}: [[face]] number {k + 1} is not a table.")
+            unknown = sorted(set(entry) - {"label", "phi_deg", "rho_deg", "normal",
+                                           "sigma_deg", "weight", "note"})
+            if unknown:
+                raise FileFormatError(
+                    f"{where}: [[face]] number {k + 1} has unknown key {unknown[0]!r}; "
+                    "allowed: label, phi_deg, rho_deg, normal, sigma_deg, weight, note."
+                )
+            if "normal" in entry and ("phi_deg" in entry or "rho_deg" in entry):
+                raise FileFormatError(f"{where}: [[face]] number {k + 1} gives both a normal "
+                                      "and phi/rho readings; give one.")
             labels.append(str(entry.get("label", f"F{k + 1}")))
             if "normal" in entry:
                 normals.append(entry["normal"])
