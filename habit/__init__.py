@@ -21,6 +21,7 @@ _PUBLIC: dict[str, str] = {
     "bfdh": "habit.morphology",
     "broken_bond_energies": "habit.bonds",
     "winterbottom_shape": "habit.substrate",
+    "make_particle": "habit.particle",
     "index_faces": "habit.indexing",
     "read_measurements": "habit.measurements",
 }
