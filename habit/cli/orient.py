@@ -41,6 +41,12 @@ def _nearest(orientation: Any, lab: Any, kind: str, max_index: int = 3) -> tuple
 @click.option("--direction", "directions", multiple=True, metavar="X,Y,Z",
               help="A lab-frame direction (e.g. the dop axis) to relate to the crystal; "
                    "repeat for several.")
+@click.option("--uvw", "uvws", multiple=True, metavar="UVW",
+              help="Also give the angle from each --direction to the crystal direction "
+                   "[uvw] (e.g. 001 or 2-1-10); repeat for several.")
+@click.option("--hkl", "hkls", multiple=True, metavar="HKL",
+              help="Also give the angle from each --direction to the normal of (hkl); "
+                   "repeat for several.")
 @click.option("--refine", is_flag=True, help="Refine the cell shape with the orientation.")
 @click.option("--max-index", "max_index", type=click.IntRange(1, 8), default=3,
               show_default=True, help="Largest absolute Miller index tried when indexing.")
@@ -53,6 +59,8 @@ def command(
     crystal_class: str | None,
     space_group: str | None,
     directions: tuple[str, ...],
+    uvws: tuple[str, ...],
+    hkls: tuple[str, ...],
     refine: bool,
     max_index: int,
     tolerance_deg: float,
@@ -73,7 +81,7 @@ def command(
     from habit.errors import InputError
     from habit.indexing import index_faces, refine_cell
     from habit.measurements import read_measurements
-    from habit.miller import format_uvw
+    from habit.miller import format_uvw, parse_uvw
 
     crystal, rest = resolve_crystal(args, cell, crystal_class, space_group)
     if len(rest) != 1:
@@ -83,6 +91,10 @@ def command(
         raise InputError("an interfacial-angle table fixes no orientation; give two-circle "
                          "readings or lab-frame normals.")
     lab_dirs = [np.array(_vector(d)) / np.linalg.norm(_vector(d)) for d in directions]
+    if (uvws or hkls) and not lab_dirs:
+        raise InputError("--uvw and --hkl give angles to a --direction; add --direction X,Y,Z.")
+    wanted_uvw = [parse_uvw(u) for u in uvws]
+    wanted_hkl = [crystal.parse_face(h) for h in hkls]
     result = index_faces(crystal, meas, max_index=max_index, tolerance=math.radians(tolerance_deg))
     orientation = result.orientation
     if refine:
@@ -116,6 +128,13 @@ def command(
             "angle_to_nearest_uvw_deg": math.degrees(ang_uvw),
             "nearest_face": face_text(crystal, hkl),
             "angle_to_nearest_face_normal_deg": math.degrees(ang_hkl),
+            "angles_to_uvw_deg": {
+                format_uvw(u, hexagonal=hexa): math.degrees(float(
+                    orientation.angle_to_direction(d, u)))
+                for u in wanted_uvw},
+            "angles_to_face_normals_deg": {
+                face_text(crystal, h): math.degrees(float(orientation.angle_to_normal(d, h)))
+                for h in wanted_hkl},
         })
     if json_path != "-":
         click.echo(crystal_header(crystal))
@@ -134,5 +153,8 @@ def command(
             click.echo(f"  nearest zone axis {format_uvw(row['nearest_uvw'], hexagonal=hexa)}"
                        f" at {row['angle_to_nearest_uvw_deg']:.2f}°; nearest face normal "
                        f"{row['nearest_face']} at {row['angle_to_nearest_face_normal_deg']:.2f}°")
+            for name, ang in {**row["angles_to_uvw_deg"],
+                              **row["angles_to_face_normals_deg"]}.items():
+                click.echo(f"  angle to {name}: {ang:.2f}°")
     if json_path is not None:
         write_json(out, json_path)

@@ -70,12 +70,18 @@ def test_index_with_system_only(runner):
 
 def test_orient_json(runner):
     result = runner.invoke(main, ["orient", *RUTILE_CELL, RUTILE_TC, "--direction", "0,0,1",
+                                  "--uvw", "001", "--uvw", "100", "--hkl", "110",
                                   "--json", "-"])
     assert result.exit_code == 0, result.output
     data = json.loads(result.output)
     # the invented specimen was set with c on the goniometer's polar axis
     assert data["directions"][0]["angle_to_c_deg"] < 0.3
     assert data["directions"][0]["nearest_uvw"] == [0, 0, 1]
+    row = data["directions"][0]
+    assert row["angles_to_uvw_deg"]["[001]"] == pytest.approx(row["angle_to_c_deg"])
+    assert row["angles_to_uvw_deg"]["[100]"] == pytest.approx(row["angle_to_a_deg"])
+    # (110) of a tetragonal crystal is parallel to c: its normal is at 90° to c
+    assert row["angles_to_face_normals_deg"]["(110)"] == pytest.approx(90.0, abs=0.3)
     c = np.array(data["axes_lab"]["c"])
     assert np.array(data["optic_axis_lab"]) == pytest.approx(c)
 
