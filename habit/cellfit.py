@@ -128,7 +128,8 @@ def _rotvec_matrix(v: FloatArray) -> FloatArray:
         return np.eye(3)
     k = v / theta
     kx = np.array([[0, -k[2], k[1]], [k[2], 0, -k[0]], [-k[1], k[0], 0]])
-    return np.eye(3) + math.sin(theta) * kx + (1 - math.cos(theta)) * kx @ kx
+    return np.asarray(np.eye(3) + math.sin(theta) * kx + (1 - math.cos(theta)) * kx @ kx,
+                      dtype=np.float64)
 
 
 @dataclass(frozen=True, slots=True, eq=False)  # holds arrays: compared by identity
@@ -321,7 +322,7 @@ def refine_cell(
         def resid(x: FloatArray) -> FloatArray:
             cn = _normals(recip_for(x), hkl)
             calc = _angle(cn[pr[:, 0]], cn[pr[:, 1]])
-            return (meas - calc) * sw
+            return np.asarray((meas - calc) * sw, dtype=np.float64)
 
         x0 = x_shape
         u0: FloatArray | None = None

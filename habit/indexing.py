@@ -186,13 +186,14 @@ def _uses_hex_axes(model: CellModel) -> bool:
 
 
 def _unit(v: FloatArray) -> FloatArray:
-    return v / np.linalg.norm(v, axis=-1, keepdims=True)
+    return np.asarray(v / np.linalg.norm(v, axis=-1, keepdims=True), dtype=np.float64)
 
 
 def _angle(u: ArrayLike, v: ArrayLike) -> FloatArray:
     """Angle between vectors along the last axis, accurate near 0 and π (atan2 form)."""
     a, b = np.asarray(u, float), np.asarray(v, float)
-    return np.arctan2(np.linalg.norm(np.cross(a, b), axis=-1), np.sum(a * b, axis=-1))
+    sine = np.linalg.norm(np.cross(a, b), axis=-1)
+    return np.asarray(np.arctan2(sine, np.sum(a * b, axis=-1)), dtype=np.float64)
 
 
 def _normals(reciprocal: FloatArray, hkl: ArrayLike) -> FloatArray:
@@ -205,7 +206,7 @@ def _simplicity(hkl: IntArray, hex_axes: bool) -> IntArray:
     s = np.abs(h).sum(axis=-1)
     if hex_axes:
         s = s + np.abs(h[..., 0] + h[..., 1])
-    return s
+    return np.asarray(s, dtype=np.int64)
 
 
 # ------------------------------------------------------------------ candidates, symmetry
@@ -242,7 +243,7 @@ def candidate_indices(max_index: int, *, hex_axes: bool = False) -> IntArray:
     hkl = hkl[g == 1]
     simp = _simplicity(hkl, hex_axes)
     order = np.lexsort((-hkl[:, 2], -hkl[:, 1], -hkl[:, 0], simp))
-    return hkl[order].astype(np.int64)
+    return np.asarray(hkl[order], dtype=np.int64)
 
 
 _ALL_W = np.array(list(itertools.product((-1, 0, 1), repeat=9)), dtype=np.int64).reshape(-1, 3, 3)
@@ -372,7 +373,7 @@ def best_rotation(crystal: ArrayLike, lab: ArrayLike, weights: ArrayLike | None 
     h = (c * w[:, None]).T @ m  # (3, 3)
     u, _, vt = np.linalg.svd(h)
     d = np.sign(np.linalg.det(vt.T @ u.T)) or 1.0
-    return vt.T @ np.diag([1.0, 1.0, d]) @ u.T
+    return np.asarray(vt.T @ np.diag([1.0, 1.0, d]) @ u.T, dtype=np.float64)
 
 
 # ---------------------------------------------------------------------------- results
@@ -443,7 +444,7 @@ class Orientation:
                 f"a {self.system} crystal is not uniaxial; its optic axes depend on the "
                 "refractive indices, not on the lattice alone."
             )
-        return self.axes_lab()[2]
+        return np.asarray(self.axes_lab()[2], dtype=np.float64)
 
 
 @dataclass(frozen=True, slots=True, eq=False)  # holds arrays: compared by identity
@@ -646,7 +647,7 @@ def embed_angle_table(measurements: Measurements, *, max_branches: int = 64
     def resid(x: FloatArray) -> FloatArray:
         v = _sph(x.reshape(-1, 2))
         c = np.clip(np.sum(v[pairs[:, 0]] * v[pairs[:, 1]], axis=1), -1, 1)
-        return (np.arccos(c) - meas) * w
+        return np.asarray((np.arccos(c) - meas) * w, dtype=np.float64)
 
     out = []
     for br in branches:

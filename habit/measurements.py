@@ -143,7 +143,7 @@ def _weights_from(
         s = np.asarray(sigmas_deg, dtype=float).reshape(-1)
         if s.shape != (n,) or not np.all(np.isfinite(s)) or np.any(s <= 0):
             raise InputError(f"{where}: sigma_deg must be {n} positive numbers (degrees).")
-        return np.radians(s) ** -2.0
+        return np.asarray(np.radians(s) ** -2.0, dtype=np.float64)
     if weights is not None:
         w = np.asarray(weights, dtype=float).reshape(-1)
         if w.shape != (n,) or not np.all(np.isfinite(w)) or np.any(w <= 0):

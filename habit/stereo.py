@@ -70,7 +70,7 @@ def _unit_vectors(vectors: ArrayLike, name: str = "vectors") -> FloatArray:
     norm = np.linalg.norm(v, axis=-1, keepdims=True)
     if np.any(~np.isfinite(norm)) or np.any(norm == 0.0):
         raise InputError(f"{name} must be finite and non-zero vectors.")
-    return v / norm
+    return np.asarray(v / norm, dtype=np.float64)
 
 
 def stereographic_project(vectors: ArrayLike) -> FloatArray:
@@ -320,7 +320,7 @@ def zone_axis(pole1: ArrayLike, pole2: ArrayLike) -> FloatArray:
     norm = np.linalg.norm(axis, axis=-1, keepdims=True)
     if np.any(norm < 1e-12):
         raise InputError("the two poles are parallel; they do not define a zone.")
-    return axis / norm
+    return np.asarray(axis / norm, dtype=np.float64)
 
 
 def small_circle(axis: ArrayLike, angle: float, num: int = 181) -> FloatArray:
@@ -357,10 +357,8 @@ def small_circle(axis: ArrayLike, angle: float, num: int = 181) -> FloatArray:
     v = np.cross(a, u)
     t = np.linspace(0.0, 2.0 * np.pi, int(num))
     # (num, 3)
-    return (
-        np.cos(angle) * a[None, :]
-        + np.sin(angle) * (np.cos(t)[:, None] * u[None, :] + np.sin(t)[:, None] * v[None, :])
-    )
+    ring = np.cos(t)[:, None] * u[None, :] + np.sin(t)[:, None] * v[None, :]
+    return np.asarray(np.cos(angle) * a[None, :] + np.sin(angle) * ring, dtype=np.float64)
 
 
 def great_circle(axis: ArrayLike, num: int = 181, *, upper_only: bool = True) -> FloatArray:
@@ -398,11 +396,12 @@ def great_circle(axis: ArrayLike, num: int = 181, *, upper_only: bool = True) ->
         u = np.array([1.0, 0.0, 0.0])
         v = np.array([0.0, 1.0, 0.0])
         t = np.linspace(0.0, 2.0 * np.pi, int(num))
-        return np.cos(t)[:, None] * u + np.sin(t)[:, None] * v
+        return np.asarray(np.cos(t)[:, None] * u + np.sin(t)[:, None] * v, dtype=np.float64)
     u /= np.linalg.norm(u)
     v = np.cross(a, u)  # the highest point of the circle
     if v[2] < 0:
         v = -v
     t = np.linspace(-np.pi / 2, np.pi / 2, int(num))
     # (num, 3)
-    return np.cos(t)[:, None] * v[None, :] + np.sin(t)[:, None] * u[None, :]
+    arc = np.cos(t)[:, None] * v[None, :] + np.sin(t)[:, None] * u[None, :]
+    return np.asarray(arc, dtype=np.float64)

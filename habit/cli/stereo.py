@@ -71,7 +71,7 @@ def command(
     if rest:
         forms = parse_faces(crystal, rest)
     elif getattr(crystal, "forms", None) is not None:
-        forms = [tuple(int(v) for v in h) for h in crystal.forms.hkl]
+        forms = [(int(h[0]), int(h[1]), int(h[2])) for h in crystal.forms.hkl]
     else:
         forms = [(1, 0, 0), (0, 1, 0), (0, 0, 1), (1, 1, 0), (1, 0, 1), (0, 1, 1), (1, 1, 1)]
     seen: set[tuple[int, ...]] = set()
