@@ -22,6 +22,8 @@ _PUBLIC: dict[str, str] = {
     "broken_bond_energies": "habit.bonds",
     "winterbottom_shape": "habit.substrate",
     "make_particle": "habit.particle",
+    "index_faces": "habit.indexing",
+    "read_measurements": "habit.measurements",
 }
 
 __all__ = sorted(_PUBLIC)
