@@ -47,6 +47,9 @@ ACM Trans. Math. Software 22, 469-483 (1996) (the hull route used as fallback).
 
 from __future__ import annotations
 
+import contextlib
+import functools
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from typing import Any
 
@@ -59,6 +62,7 @@ __all__ = [
     "solve_chunk",
     "hull_shape",
     "TIE",
+    "single_thread_blas",
 ]
 
 #: Two energies-normalised bound values closer than this (relative to the largest energy of
@@ -409,6 +413,51 @@ def build_plan(normals: Any, operations: Any = None, atol: float = 1e-9) -> Inte
 
 
 # --------------------------------------------------------------------------- solve
+
+
+@functools.cache
+def _blas_threads() -> tuple[Callable[[], Any], Callable[[int], Any]] | None:
+    """Getter and setter of the thread count of numpy's bundled OpenBLAS, if found."""
+    import ctypes
+    import glob
+    import os
+
+    folder = os.path.join(os.path.dirname(os.path.dirname(np.__file__)), "numpy.libs")
+    for path in sorted(glob.glob(os.path.join(folder, "*openblas*.so*"))):
+        try:
+            lib = ctypes.CDLL(path)
+        except OSError:
+            continue
+        for stem in ("scipy_openblas", "openblas"):
+            for suffix in ("64_", "_64_", ""):
+                get = getattr(lib, f"{stem}_get_num_threads{suffix}", None)
+                set_ = getattr(lib, f"{stem}_set_num_threads{suffix}", None)
+                if get is not None and set_ is not None:
+                    get.restype = ctypes.c_int
+                    set_.argtypes = [ctypes.c_int]
+                    return get, set_
+    return None
+
+
+@contextlib.contextmanager
+def single_thread_blas() -> Iterator[None]:
+    """Run the block with numpy's BLAS on one thread (then restore the thread count).
+
+    The products here are many and small; on a shared machine BLAS threads only add
+    contention (measured: several times slower), and worker processes bring their own
+    parallelism. Does nothing when the BLAS library is not found.
+    """
+    fns = _blas_threads()
+    if fns is None:
+        yield
+        return
+    get, set_ = fns
+    old = int(get())
+    set_(1)
+    try:
+        yield
+    finally:
+        set_(old)
 
 
 def solve_chunk(

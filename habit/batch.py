@@ -265,6 +265,44 @@ def _check_energies(planes: PlaneSet, energies: ArrayLike) -> NDArray[np.float64
     return g
 
 
+def _solve_into(
+    plan: _intervals.IntervalPlan,
+    g: NDArray[np.float64],
+    method: str,
+    chunk: int,
+    areas: NDArray[np.float64],
+    volume: NDArray[np.float64],
+    fallback: NDArray[np.bool_],
+    ell: NDArray[np.float64] | None,
+    progress: Progress | None,
+) -> None:
+    """Fill the output arrays chunk by chunk (intervals, hull fallback per failed shape)."""
+    nshape = len(g)
+    pair = plan.pair_line
+    has_line = pair >= 0
+    gf_all = g[:, plan.reps]  # (S, F_plan)
+    for start in range(0, nshape, chunk):
+        stop = min(start + chunk, nshape)
+        if method == "intervals":
+            a_f, vol, ok, lines = _intervals.solve_chunk(plan, gf_all[start:stop], ell is not None)
+            areas[start:stop] = a_f[:, plan.family]
+            volume[start:stop] = vol
+            if ell is not None and lines is not None:
+                ell[start:stop] = np.where(has_line, lines[:, np.maximum(pair, 0)], 0.0)
+            redo = np.nonzero(~ok)[0] + start
+            fallback[redo] = True
+        else:
+            redo = np.arange(start, stop)
+        for s in redo:
+            a_s, v_s, e_s = _intervals.hull_shape(plan.normals, g[s], ell is not None)
+            areas[s] = a_s
+            volume[s] = v_s
+            if ell is not None and e_s is not None:
+                ell[s] = e_s
+        if progress is not None:
+            progress(stop)
+
+
 def solve_shapes(
     planes: PlaneSet | ArrayLike,
     energies: ArrayLike,
@@ -272,7 +310,7 @@ def solve_shapes(
     operations: ArrayLike | None = None,
     edges: bool = False,
     method: str = "auto",
-    chunk: int = 512,
+    chunk: int | None = None,
     tol: Tolerances = DEFAULT,
     progress: Progress | None = None,
 ) -> ShapeBatch:
@@ -292,8 +330,8 @@ def solve_shapes(
         ``"intervals"``: clip plane-pair lines (vectorised over shapes); ``"hull"``: one
         convex hull per shape; ``"auto"``: intervals unless the plane set is large and has
         no symmetry to exploit.
-    chunk : int
-        Shapes per vectorised block.
+    chunk : int, optional
+        Shapes per vectorised block (default: sized to the plane set).
     tol : Tolerances
         ``tol.area`` decides which faces count as present.
     progress : callable, optional
@@ -325,41 +363,22 @@ def solve_shapes(
         raise InputError("give operations to prepare_planes, not with a prepared PlaneSet.")
     if method not in ("auto", "intervals", "hull"):
         raise InputError(f"method must be 'auto', 'intervals' or 'hull', got {method!r}.")
-    if chunk < 1:
+    if chunk is not None and chunk < 1:
         raise InputError(f"chunk must be a positive number of shapes, got {chunk}.")
     g = _check_energies(planes, energies)
     plan = planes.plan
     nshape, nplanes = g.shape
     if method == "auto":
         method = "intervals" if plan.cost <= _AUTO_MAX_FORMS else "hull"
+    if chunk is None:
+        # keep the per-chunk bound array near 512 KB: larger blocks fall out of cache
+        chunk = int(np.clip(65536 // max(plan.cost, 1), 8, 256))
     areas = np.empty((nshape, nplanes))
     volume = np.empty(nshape)
     fallback = np.zeros(nshape, dtype=bool)
     ell = np.zeros((nshape, nplanes, nplanes)) if edges else None
-    pair = plan.pair_line
-    has_line = pair >= 0
-    gf_all = g[:, plan.reps]  # (S, F_plan)
-    for start in range(0, nshape, chunk):
-        stop = min(start + chunk, nshape)
-        if method == "intervals":
-            a_f, vol, ok, lines = _intervals.solve_chunk(plan, gf_all[start:stop], edges)
-            areas[start:stop] = a_f[:, plan.family]
-            volume[start:stop] = vol
-            if ell is not None and lines is not None:
-                ell[start:stop] = np.where(has_line, lines[:, np.maximum(pair, 0)], 0.0)
-            redo = np.nonzero(~ok)[0] + start
-        else:
-            redo = np.arange(start, stop)
-        for s in redo:
-            a_s, v_s, e_s = _intervals.hull_shape(plan.normals, g[s], edges)
-            areas[s] = a_s
-            volume[s] = v_s
-            if ell is not None and e_s is not None:
-                ell[s] = e_s
-        if method == "intervals":
-            fallback[redo] = True
-        if progress is not None:
-            progress(stop)
+    with _intervals.single_thread_blas():
+        _solve_into(plan, g, method, chunk, areas, volume, fallback, ell, progress)
     total = areas.sum(axis=1)  # (S,)
     present = areas > tol.area * total[:, None]
     np.maximum(areas, 0.0, out=areas)
