@@ -23,6 +23,9 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
     "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
     "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
+    "map": ("habit.cli.map", "Map which forms show over two form values, refined at boundaries."),
+    "sample": ("habit.cli.sample", "Monte Carlo over uncertain form values: odds and intervals."),
+    "batch": ("habit.cli.batch", "Shapes for a folder of crystal files or a CSV of energy sets."),
 }
 
 
