@@ -9,7 +9,8 @@ Measured in the same run, interleaved, median of the repeats:
   hull      habit's per-shape hull route (areas, volume) for reference;
   fast      habit.batch.solve_shapes with the symmetry-reduced interval method (areas of
             every face, volumes, present faces, form fractions);
-  fast x2   the same map split over 2 local worker processes (--workers 2), if asked.
+  fast x2   5 copies of the map as one job over 2 local worker processes (--workers 2,
+            --scheduler processes|dask), next to the same job in one process.
 Results of the fast path are compared with the hull route (max relative difference).
 
 Usage:  python benchmarks/throughput.py [--repeats 5] [--floor-every 10] [--workers 2]
@@ -72,14 +73,9 @@ def time_hull(normals, energies):
     return (time.perf_counter() - t) / len(energies)
 
 
-def time_fast(planes, energies, workers=1):
+def time_fast(planes, energies, workers=1, scheduler="inline"):
     t = time.perf_counter()
-    if workers == 1:
-        out = solve_shapes(planes, energies)
-    else:
-        from habit.batch import solve_shapes_parallel
-
-        out = solve_shapes_parallel(planes, energies, workers=workers)
+    out = solve_shapes(planes, energies, scheduler=scheduler, workers=workers)
     return (time.perf_counter() - t) / len(energies), out
 
 
@@ -90,6 +86,8 @@ def main() -> None:
     parser.add_argument("--size", type=int, default=200)
     parser.add_argument("--blocks", type=int, default=20, help="interleaving blocks per repeat")
     parser.add_argument("--workers", type=int, default=1)
+    parser.add_argument("--scheduler", default="processes", help="processes or dask")
+    parser.add_argument("--parallel-maps", type=int, default=5, help="maps per parallel job")
     parser.add_argument("--json", default=None)
     args = parser.parse_args()
 
@@ -100,6 +98,7 @@ def main() -> None:
     rows: dict[str, list[float]] = {"floor": [], "hull": [], "fast": []}
     if args.workers > 1:
         rows[f"fast x{args.workers}"] = []
+        rows[f"fast 1 proc ({args.parallel_maps} maps)"] = []
     # interleave finely: every block of the map is timed with every method in turn, so
     # load from other users of the machine falls on all methods alike
     blocks = np.array_split(np.arange(len(energies)), args.blocks)
@@ -125,9 +124,14 @@ def main() -> None:
             volume[idx] = out.volume
             n_fallback += out.n_fallback
         if args.workers > 1:
+            # a job big enough to pay for the pool: several maps at once, same shapes
+            big = np.tile(energies, (args.parallel_maps, 1))
             name = f"fast x{args.workers}"
-            spent[name] = time_fast(planes, energies, args.workers)[0] * len(energies)
-            counts[name] = len(energies)
+            spent[name] = time_fast(planes, big, args.workers, args.scheduler)[0] * len(big)
+            counts[name] = len(big)
+            one = f"fast 1 proc ({args.parallel_maps} maps)"
+            spent[one] = time_fast(planes, big)[0] * len(big)
+            counts[one] = len(big)
         for name in rows:
             rows[name].append(spent[name] / counts[name])
 
@@ -147,7 +151,7 @@ def main() -> None:
         "methods": {},
     }
     print(f"{len(energies)} shapes, 26 planes, {args.repeats} interleaved repeats (medians)")
-    print(f"{'method':<12}{'us/shape':>10}{'shapes/s':>12}{'vs floor':>10}")
+    print(f"{'method':<26}{'us/shape':>10}{'shapes/s':>12}{'vs floor':>10}{'per core':>10}")
     for name, values in rows.items():
         med = statistics.median(values)
         cores = args.workers if name.startswith("fast x") else 1
@@ -159,7 +163,7 @@ def main() -> None:
             "ratio_to_floor": ratio,
             "ratio_to_floor_per_core": ratio / cores,
         }
-        print(f"{name:<12}{med * 1e6:>10.2f}{1 / med:>12.0f}{ratio:>9.1f}x")
+        print(f"{name:<26}{med * 1e6:>10.2f}{1 / med:>12.0f}{ratio:>9.1f}x{ratio / cores:>9.1f}x")
     print(f"max relative difference fast vs hull: {worst:.2e}; fallbacks: {n_fallback}")
     if args.json:
         Path(args.json).write_text(json.dumps(report, indent=2) + "\n")

@@ -372,9 +372,11 @@ def _seconds_per_shape(planes: PlaneSet, method: str) -> float:
 
 
 def _solve_task(
-    task: tuple[_intervals.IntervalPlan, NDArray[np.float64], str, int, bool],
+    task: tuple[_intervals.IntervalPlan, NDArray[np.float64], str, int, bool, bool],
 ) -> tuple[Any, Any, Any, Any]:
-    plan, g, method, chunk, edges = task
+    """Solve a block in a worker; symmetric blocks travel as one value per form."""
+    plan, g_in, method, chunk, edges, compact = task
+    g = g_in[:, plan.family] if compact else g_in  # (S, N)
     nshape, nplanes = g.shape
     areas = np.empty((nshape, nplanes))
     volume = np.empty(nshape)
@@ -382,7 +384,7 @@ def _solve_task(
     ell = np.zeros((nshape, nplanes, nplanes)) if edges else None
     with _intervals.single_thread_blas():
         _solve_into(plan, g, method, chunk, areas, volume, fallback, ell, None)
-    return areas, volume, fallback, ell
+    return (areas[:, plan.reps] if compact else areas), volume, fallback, ell
 
 
 def solve_shapes(
@@ -457,6 +459,8 @@ def solve_shapes(
         raise InputError(f"chunk must be a positive number of shapes, got {chunk}.")
     g = _check_energies(planes, energies)
     plan = planes.plan
+    if planes.symmetric:  # one value per orbit (equal within 1e-9): use it on every face
+        g = g[:, plan.reps[plan.family]]
     nshape, nplanes = g.shape
     if method == "auto":
         method = "intervals" if plan.cost <= _AUTO_MAX_FORMS else "hull"
@@ -474,13 +478,16 @@ def solve_shapes(
     else:
         n_tasks = max(1, min(nshape // max(chunk, 1), 8 * (workers or os.cpu_count() or 1)))
         parts = np.array_split(np.arange(nshape), n_tasks)
-        tasks = [(plan, g[idx], method, chunk, edges) for idx in parts]
+        compact = planes.symmetric
+        sent = g[:, plan.reps] if compact else g  # (S, F) or (S, N)
+        tasks = [(plan, sent[idx], method, chunk, edges, compact) for idx in parts]
         done = 0
         for i, (a_i, v_i, f_i, e_i) in _execute.run_tasks(
             _solve_task, tasks, mode=mode, workers=workers, scheduler=scheduler
         ):
             idx = parts[i]
-            areas[idx], volume[idx], fallback[idx] = a_i, v_i, f_i
+            areas[idx] = a_i[:, plan.family] if compact else a_i
+            volume[idx], fallback[idx] = v_i, f_i
             if ell is not None:
                 ell[idx] = e_i
             done += len(idx)

@@ -301,3 +301,15 @@ def test_batch_refuses_a_header_without_the_forms(tmp_path):
     table.write_text("id,100,110\nx,1,1\n")
     with pytest.raises(InputError, match="every form"):
         run_batch(table, tmp_path / "r.csv", crystal=CUBIC3)
+
+
+def test_solve_shapes_in_two_processes_gives_identical_numbers():
+    from habit.batch import solve_shapes
+
+    rng = np.random.default_rng(8)
+    energies = CUBIC3.expand(rng.uniform(0.7, 1.6, (3000, 3)))
+    a = solve_shapes(CUBIC3, energies, scheduler="inline")
+    b = solve_shapes(CUBIC3, energies, scheduler="processes", workers=2)
+    np.testing.assert_array_equal(a.areas, b.areas)
+    np.testing.assert_array_equal(a.volume, b.volume)
+    np.testing.assert_array_equal(a.present, b.present)
