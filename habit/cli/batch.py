@@ -82,7 +82,7 @@ def command(
     if not quiet:
         click.echo(
             f"{report.n_rows} rows: {report.n_computed} computed, {report.n_skipped} already "
-            f"done, {report.n_errors} with errors (see their 'error' column)"
+            f"done; {report.n_errors} of the computed rows failed (see their 'error' column)"
         )
         for p in report.outputs:
             click.echo(f"wrote {p}")
