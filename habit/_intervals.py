@@ -180,12 +180,14 @@ def _permutations(normals: F64, ops: F64, atol: float) -> I64:
             f"operation {int(g)} maps plane {int(i)} onto no plane of the set; "
             "the operations must map the plane set onto itself"
         )
-    return perm.astype(np.int64)
+    out: I64 = perm.astype(np.int64)
+    return out
 
 
 def _orbits(perms: I64) -> I64:
     """Orbit label (smallest member) of each point under a permutation group (G, n)."""
-    return perms.min(axis=0).astype(np.int64)
+    out: I64 = perms.min(axis=0).astype(np.int64)
+    return out
 
 
 # --------------------------------------------------------------------------- plan
@@ -556,7 +558,7 @@ def hull_shape(normals: F64, energies: F64, edges: bool = True) -> tuple[F64, fl
     s = np.sqrt(np.maximum(1.0 - c * c, 1e-300))
     gi, gj = energies[i], energies[j]
     half = 0.5 * length / s
-    area = np.bincount(
+    area: F64 = np.bincount(  # type: ignore[assignment]
         np.concatenate([i, j]),
         weights=np.concatenate([half * (gj - c * gi), half * (gi - c * gj)]),
         minlength=nplanes,
@@ -564,6 +566,6 @@ def hull_shape(normals: F64, energies: F64, edges: bool = True) -> tuple[F64, fl
     volume = float(energies @ area) / 3.0
     if not edges:
         return area, volume, None
-    ell = np.bincount(i * nplanes + j, weights=length, minlength=nplanes * nplanes)
+    ell: F64 = np.bincount(i * nplanes + j, weights=length, minlength=nplanes * nplanes)  # type: ignore[assignment]
     ell = ell.reshape(nplanes, nplanes)
     return area, volume, ell + ell.T

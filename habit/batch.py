@@ -188,7 +188,8 @@ def _check_normals(normals: ArrayLike) -> NDArray[np.float64]:
         raise InputError(
             f"planes {int(i)} and {int(j)} have the same normal; give each direction once."
         )
-    return n
+    out: NDArray[np.float64] = n
+    return out
 
 
 def _check_bounded(n: NDArray[np.float64]) -> None:
@@ -368,7 +369,7 @@ def _seconds_per_shape(planes: PlaneSet, method: str) -> float:
     if method == "hull":
         return 150e-6
     rows = planes.plan.matrix.shape[0]
-    return 2e-6 + planes.plan.cost * (1e-8 + 4e-10 * rows)
+    return float(2e-6 + planes.plan.cost * (1e-8 + 4e-10 * rows))
 
 
 def _solve_task(
@@ -565,7 +566,8 @@ def _region_name(planes: PlaneSet, mask: int) -> str:
 
 def _present_mask(batch: ShapeBatch) -> NDArray[np.int64]:
     bits = (1 << np.arange(batch.form_fractions.shape[1])).astype(np.int64)
-    return (batch.form_present.astype(np.int64) * bits).sum(axis=1)  # (S,)
+    out: NDArray[np.int64] = (batch.form_present.astype(np.int64) * bits).sum(axis=1)  # (S,)
+    return out
 
 
 # ---------------------------------------------------------------------------- shape maps
@@ -709,7 +711,7 @@ def shape_map(
     if xf == yf:
         raise InputError("x and y must vary two different forms.")
     nx0, ny0 = (size, size) if np.isscalar(size) else size  # type: ignore[misc]
-    nx0, ny0 = int(nx0), int(ny0)
+    nx0, ny0 = int(nx0), int(ny0)  # type: ignore[arg-type]
     if nx0 < 2 or ny0 < 2 or levels < 0:
         raise InputError("size needs at least 2 points per axis and levels must be >= 0.")
     step = 2**levels
@@ -1328,6 +1330,7 @@ def run_batch(
     todo = [k for k, i in enumerate(ids) if i not in table.finished]
     n_skipped = len(ids) - len(todo)
     blocks = [todo[a : a + chunk] for a in range(0, len(todo), chunk)]
+    tasks: list[Any]
     if src.is_dir():
         tasks = [([items[k] for k in b], tol) for b in blocks]
         func = _crystal_files_task

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 import click
 
 from habit.cli._common import json_option
@@ -64,7 +66,7 @@ def command(
     else:
         raise InputError(f"no such folder or file: {source}.")
     quiet = json_path == "-"
-    kw = dict(crystal=crystal, chunk=chunk, scheduler=scheduler, workers=workers)
+    kw: dict[str, Any] = dict(crystal=crystal, chunk=chunk, scheduler=scheduler, workers=workers)
     if quiet:
         report = run_batch(src, list(outputs), **kw)
     else:

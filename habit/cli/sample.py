@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 import click
 
 from habit.cli._common import crystal_options, json_option
@@ -122,8 +124,10 @@ def command(
                 ) from None
             i, j = planes.form_index(a), planes.form_index(b)
             corr[i, j] = corr[j, i] = r
-    kw = dict(n=draws, distribution=distribution, correlation=corr, per_face=per_face,
-              rng=seed, level=level, scheduler=scheduler, workers=workers)  # fmt: skip
+    kw: dict[str, Any] = dict(
+        n=draws, distribution=distribution, correlation=corr, per_face=per_face,
+        rng=seed, level=level, scheduler=scheduler, workers=workers,
+    )  # fmt: skip
     quiet = json_path == "-"
     if quiet:
         out = sample_shapes(planes, mean, sd, **kw)
@@ -186,8 +190,9 @@ def command(
 
         with atomic_output(csv_path) as handle:
             writer = csv.writer(handle, lineterminator="\n")
-            writer.writerow([f"value_{lab} ({unit})" for lab in labels]
-                            + [f"area_fraction_{lab}" for lab in labels] + ["volume_A3"])  # fmt: skip
+            head = [f"value_{lab} ({unit})" for lab in labels]
+            head += [f"area_fraction_{lab}" for lab in labels] + ["volume_A3"]
+            writer.writerow(head)
             for v, fr, vol in zip(out.values.tolist(), out.form_fractions.tolist(),
                                   out.volume.tolist(), strict=True):  # fmt: skip
                 writer.writerow([repr(x) for x in v + fr + [vol]])

@@ -182,8 +182,8 @@ def plot_sample_histograms(
     planes = summary.planes
     nf = planes.n_forms
     if ax is None:
-        _, axes = plt.subplots(1, nf + 1, figsize=(3.2 * (nf + 1), 3.0), squeeze=False)
-        axes = list(axes[0])
+        _, grid = plt.subplots(1, nf + 1, figsize=(3.2 * (nf + 1), 3.0), squeeze=False)
+        axes: list[Any] = list(grid[0])
     else:
         axes = list(np.atleast_1d(ax))
         if len(axes) != nf + 1:
