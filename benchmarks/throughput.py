@@ -9,6 +9,8 @@ Measured in the same run, interleaved, median of the repeats:
   hull      habit's per-shape hull route (areas, volume) for reference;
   fast      habit.batch.solve_shapes with the symmetry-reduced interval method (areas of
             every face, volumes, present faces, form fractions);
+  fast, no symmetry   the same with every face's energy perturbed by 2 % (no symmetry
+            to use; method "auto" picks the line method or a hull per shape);
   fast x2   5 copies of the map as one job over 2 local worker processes (--workers 2,
             --scheduler processes|dask), next to the same job in one process.
 Results of the fast path are compared with the hull route (max relative difference).
@@ -95,7 +97,10 @@ def main() -> None:
     planes = prepare_planes(normals, operations=ops)
     fam = the_map(args.size)
     energies = planes.expand(fam)  # (S, 26)
-    rows: dict[str, list[float]] = {"floor": [], "hull": [], "fast": []}
+    plain = prepare_planes(normals)  # no symmetry: every face its own energy
+    rng = np.random.default_rng(0)
+    noisy = energies * rng.normal(1.0, 0.02, energies.shape)  # per-face energies
+    rows: dict[str, list[float]] = {"floor": [], "hull": [], "fast": [], "fast, no symmetry": []}
     if args.workers > 1:
         rows[f"fast x{args.workers}"] = []
         rows[f"fast 1 proc ({args.parallel_maps} maps)"] = []
@@ -120,6 +125,9 @@ def main() -> None:
             dt, out = time_fast(planes, e)
             spent["fast"] += dt * len(e)
             counts["fast"] += len(e)
+            few = noisy[idx][:: args.floor_every]
+            spent["fast, no symmetry"] += time_fast(plain, few)[0] * len(few)
+            counts["fast, no symmetry"] += len(few)
             areas[idx] = out.areas
             volume[idx] = out.volume
             n_fallback += out.n_fallback

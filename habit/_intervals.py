@@ -125,6 +125,7 @@ class IntervalPlan:
     face_matrix: F64
     check_matrix: F64
     pair_line: I64
+    estimated_forms: int = 0
 
     @property
     def n_planes(self) -> int:
@@ -139,7 +140,12 @@ class IntervalPlan:
     @property
     def cost(self) -> int:
         """Number of linear forms evaluated per shape (a cost estimate)."""
-        return int(self.matrix.shape[1])
+        return int(self.matrix.shape[1]) if self.usable else self.estimated_forms
+
+    @property
+    def usable(self) -> bool:
+        """False when the bounds were not built (too many; only the hull route is open)."""
+        return self.estimated_forms >= 0 and self.matrix.shape[1] > 0
 
 
 # --------------------------------------------------------------------------- symmetry
@@ -234,7 +240,9 @@ def _form(coef: dict[int, float], family: I64, nf: int, const: float = 0.0) -> F
     return out
 
 
-def build_plan(normals: Any, operations: Any = None, atol: float = 1e-9) -> IntervalPlan:
+def build_plan(
+    normals: Any, operations: Any = None, atol: float = 1e-9, max_forms: int | None = None
+) -> IntervalPlan:
     """Precompute the line bounds of a plane set (optionally reduced by symmetry).
 
     Parameters
@@ -246,6 +254,9 @@ def build_plan(normals: Any, operations: Any = None, atol: float = 1e-9) -> Inte
         group here. None: no symmetry (every plane its own form).
     atol : float
         Tolerance on ``1 - cos`` when matching planes under the operations.
+    max_forms : int, optional
+        When the lines would need more linear forms than this (estimated before any is
+        built), build none: the plan then serves only the hull route (``usable`` False).
 
     Returns
     -------
@@ -284,6 +295,20 @@ def build_plan(normals: Any, operations: Any = None, atol: float = 1e-9) -> Inte
     pair_line = -np.ones((nplanes, nplanes), dtype=np.int64)
     pair_line[ia, ib] = inverse
     nlines = len(line_keys)
+    estimate = nlines * (nplanes - 2)
+    if max_forms is not None and estimate > max_forms:
+        nf_ = len(reps)
+        empty = np.zeros((nf_ + 1, 0))
+        zero = slice(0, 0)
+        for arr in (n, family, reps, family_size, ops, perm, pair_line):
+            arr.setflags(write=False)
+        return IntervalPlan(
+            normals=n, family=family, reps=reps, family_size=family_size, operations=ops,
+            permutation=perm, n_lines=nlines, n_contrib=0, matrix=empty, ku=0, kl=0, kk=0,
+            kt=0, slices=(zero, zero, zero, zero, zero), contrib_line=np.zeros(0, np.int64),
+            face_matrix=np.zeros((0, nf_)), check_matrix=np.zeros((0, 4 * nf_)),
+            pair_line=pair_line, estimated_forms=estimate,
+        )  # fmt: skip
 
     upper_groups: list[list[F64]] = []
     lower_groups: list[list[F64]] = []

@@ -45,7 +45,7 @@ __all__ = [
 Progress = Callable[[int], None]
 
 #: Linear forms per shape above which "auto" prefers one hull per shape.
-_AUTO_MAX_FORMS = 4000
+_AUTO_MAX_FORMS = 20_000
 
 
 @dataclass(frozen=True, slots=True)
@@ -267,7 +267,7 @@ def prepare_planes(
         if not np.allclose(eye, np.eye(3), atol=1e-8):
             raise InputError("operations must be orthogonal matrices (Cartesian rotations).")
     try:
-        plan = _intervals.build_plan(n, ops)
+        plan = _intervals.build_plan(n, ops, max_forms=_AUTO_MAX_FORMS)
     except ValueError as exc:
         text = str(exc)
         if "bounded" in text:
@@ -464,7 +464,12 @@ def solve_shapes(
         g = g[:, plan.reps[plan.family]]
     nshape, nplanes = g.shape
     if method == "auto":
-        method = "intervals" if plan.cost <= _AUTO_MAX_FORMS else "hull"
+        method = "intervals" if plan.usable and plan.cost <= _AUTO_MAX_FORMS else "hull"
+    if method == "intervals" and not plan.usable:
+        raise InputError(
+            f"this plane set has too many plane pairs ({plan.n_lines} lines) for the line "
+            "method without symmetry; use method='hull' or give the operations."
+        )
     if chunk is None:
         # keep the per-chunk bound array near 512 KB: larger blocks fall out of cache
         chunk = int(np.clip(65536 // max(plan.cost, 1), 8, 256))
