@@ -15,6 +15,10 @@ __version__ = "0.1.0"
 _PUBLIC: dict[str, str] = {
     "HabitError": "habit.errors",
     "Tolerances": "habit.tolerances",
+    "solve_shapes": "habit.batch",
+    "shape_map": "habit.batch",
+    "sample_shapes": "habit.batch",
+    "run_batch": "habit.batch",
 }
 
 __all__ = sorted(_PUBLIC)

@@ -180,7 +180,7 @@ def test_same_seed_same_numbers_in_process_and_in_two_local_processes():
 
 @pytest.mark.slow
 def test_same_seed_same_numbers_on_a_two_worker_dask_cluster():
-    pytest.importorskip("dask.distributed")
+    dd = pytest.importorskip("dask.distributed")
     n = SAMPLE_CHUNK + 57
     kw = dict(n=n, rng=5)
     a = sample_shapes(CUBIC3, [1.0, 1.2, 1.3], [0.05, 0.06, 0.07], scheduler="inline", **kw)
@@ -189,6 +189,25 @@ def test_same_seed_same_numbers_on_a_two_worker_dask_cluster():
     )
     np.testing.assert_array_equal(a.form_fractions, b.form_fractions)
     np.testing.assert_array_equal(a.volume, b.volume)
+    # and through the address of a running scheduler
+    with dd.LocalCluster(
+        n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None
+    ) as cluster:
+        c = sample_shapes(
+            CUBIC3, [1.0, 1.2, 1.3], [0.05, 0.06, 0.07], scheduler=cluster.scheduler_address, **kw
+        )
+    np.testing.assert_array_equal(a.form_fractions, c.form_fractions)
+
+
+def test_progress_is_reported_up_to_the_total():
+    seen = []
+    sample_shapes(CUBIC3, [1.0, 1.2, 1.3], [0.05, 0.06, 0.07], n=SAMPLE_CHUNK + 10, rng=1,
+                  progress=seen.append)  # fmt: skip
+    assert seen == [SAMPLE_CHUNK, SAMPLE_CHUNK + 10]
+    marks = []
+    m = shape_map(CUBE_OCTA, [1.0, 1.0], x=("111", 0.3, 2.0), y=("100", 0.9, 1.1), size=5,
+                  levels=2, progress=marks.append)  # fmt: skip
+    assert marks == sorted(marks) and marks[-1] == m.n_shapes
 
 
 def test_per_face_noise_breaks_symmetry_but_keeps_means():
@@ -313,3 +332,44 @@ def test_solve_shapes_in_two_processes_gives_identical_numbers():
     np.testing.assert_array_equal(a.areas, b.areas)
     np.testing.assert_array_equal(a.volume, b.volume)
     np.testing.assert_array_equal(a.present, b.present)
+
+
+@pytest.mark.slow
+def test_batch_killed_with_sigkill_restarts_without_recomputing(tmp_path):
+    # a real interruption: the command runs in a child process that is killed mid-way
+    import os
+    import signal
+    import subprocess
+    import sys
+    import time
+    from pathlib import Path
+
+    table = tmp_path / "sets.csv"
+    _energy_table(table, 60_000)
+    crystal = tmp_path / "cube.toml"
+    crystal.write_text('name = "cube"\n[cell]\na = 5.0\ncrystal_class = "m-3m"\n')
+    out = tmp_path / "r.csv"
+    part = tmp_path / "r.csv.part"
+    root = Path(__file__).resolve().parents[1]
+    env = dict(os.environ, PYTHONPATH=str(root))
+    cmd = [sys.executable, "-m", "habit", "batch", str(table), "--crystal", str(crystal),
+           "--out", str(out), "--chunk", "200", "--scheduler", "inline"]  # fmt: skip
+    child = subprocess.Popen(cmd, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    try:
+        deadline = time.time() + 60
+        while time.time() < deadline:
+            if part.exists() and part.stat().st_size > 200_000:
+                break
+            time.sleep(0.02)
+        child.send_signal(signal.SIGKILL)
+    finally:
+        child.wait()
+    assert not out.exists()
+    text = part.read_text()
+    finished = text.count("\n") - 1  # whole lines after the header
+    assert 0 < finished < 60_000
+    report = run_batch(table, out, crystal=CUBIC3)
+    assert report.n_skipped == finished
+    assert report.n_computed == 60_000 - finished
+    ids = [ln.split(",", 1)[0] for ln in out.read_text().splitlines()[1:]]
+    assert len(ids) == len(set(ids)) == 60_000
