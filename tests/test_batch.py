@@ -373,3 +373,33 @@ def test_batch_killed_with_sigkill_restarts_without_recomputing(tmp_path):
     assert report.n_computed == 60_000 - finished
     ids = [ln.split(",", 1)[0] for ln in out.read_text().splitlines()[1:]]
     assert len(ids) == len(set(ids)) == 60_000
+
+
+@pytest.mark.parametrize(
+    ("cell", "klass", "forms"),
+    [
+        ((4.91, 4.91, 5.41, 90, 90, 120), "32", ["10-10", "10-11", "01-11", "0001"]),
+        ((4.76, 4.76, 12.99, 90, 90, 120), "-3m", ["10-10", "10-14", "0001", "01-12"]),
+        ((5.68, 15.2, 6.29, 90, 114.1, 90), "2/m", ["010", "110", "-111", "001", "100"]),
+    ],
+    ids=["trigonal-32", "trigonal--3m", "monoclinic-2/m"],
+)
+def test_crystal_plane_sets_match_an_independent_hull(cell, klass, forms):
+    # the point group's operations, turned Cartesian on an oblique cell, must reduce the work
+    # without changing the answer: compare with scipy's half-space intersection (1e-9)
+    from scipy.spatial import ConvexHull, HalfspaceIntersection
+
+    from habit.batch import solve_shapes
+    from habit.crystal import Crystal
+
+    xtal = Crystal.from_cell(*cell, crystal_class=klass)
+    planes = crystal_planes(xtal, forms)
+    assert planes.symmetric and planes.plan.n_families == planes.n_forms
+    rng = np.random.default_rng(4)
+    values = rng.uniform(0.8, 1.6, (20, planes.n_forms))
+    out = solve_shapes(planes, planes.expand(values))
+    assert out.method == "intervals" and out.n_fallback == 0
+    for s, gamma in enumerate(planes.expand(values)):
+        hs = np.hstack([planes.normals, -gamma[:, None]])
+        verts = HalfspaceIntersection(hs, np.zeros(3)).intersections
+        assert abs(out.volume[s] - ConvexHull(verts).volume) <= 1e-9 * out.volume[s]
