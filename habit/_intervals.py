@@ -202,8 +202,14 @@ def _orbits(perms: I64) -> I64:
 def _line_frame(nr: F64, nj: F64) -> tuple[F64, F64, F64, float, float]:
     """Direction d, vectors u, w (see module docstring), cos and sin of the angle."""
     c = float(nr @ nj)
-    cross = np.cross(nr, nj)
-    s = float(np.linalg.norm(cross))
+    cross = np.array(
+        [
+            nr[1] * nj[2] - nr[2] * nj[1],
+            nr[2] * nj[0] - nr[0] * nj[2],
+            nr[0] * nj[1] - nr[1] * nj[0],
+        ]
+    )
+    s = float(np.sqrt(cross @ cross))
     d = cross / s
     u = (nr - c * nj) / (s * s)
     w = (nj - c * nr) / (s * s)
@@ -221,14 +227,12 @@ def _prune(cols: list[F64], upper: bool) -> list[F64]:
     arr = np.array(cols)  # (K, F+1)
     if not upper:
         arr = -arr
-    keep = np.ones(len(arr), dtype=bool)
-    for i in range(len(arr)):
-        if not keep[i]:
-            continue
-        dominated = np.all(arr >= arr[i] - 1e-14, axis=1) & keep
-        dominated[i] = False
-        keep &= ~dominated
-    return [c for c, k in zip(cols, keep, strict=True) if k]
+    # below[i, j]: bound j is never above bound i; same[i, j]: the two are equal
+    below = np.all(arr[None, :, :] <= arr[:, None, :] + 1e-14, axis=2)  # (K, K)
+    same = below & below.T
+    earlier = np.tri(len(arr), k=-1, dtype=bool)  # j < i
+    dominated = np.any(below & ~same, axis=1) | np.any(same & earlier, axis=1)
+    return [c for c, d in zip(cols, dominated, strict=True) if not d]
 
 
 def _form(coef: dict[int, float], family: I64, nf: int, const: float = 0.0) -> F64:
@@ -313,26 +317,29 @@ def build_plan(
     upper_groups: list[list[F64]] = []
     lower_groups: list[list[F64]] = []
     kill_groups: list[list[F64]] = []
+    rows = np.arange(nplanes)
+    onehot = np.eye(nf + 1)[family]  # (N, F+1): plane energy -> form energy
+
+    def forms_for(a: int, b: int, u: F64, w: F64) -> F64:
+        """(N, F+1): the linear form gamma_k - gamma_a (n_k.u) - gamma_b (n_k.w) per plane k."""
+        out = onehot.copy()
+        out[:, family[a]] -= n @ u
+        out[:, family[b]] -= n @ w
+        return out
+
     for keyval in line_keys:
         a, b = divmod(int(keyval), nplanes)
         d, u, w, _, _ = _line_frame(n[a], n[b])
-        ups: list[F64] = []
-        lows: list[F64] = []
-        kills: list[F64] = []
-        for k in range(nplanes):
-            if k in (a, b):
-                continue
-            ak = float(n[k] @ d)
-            coef = {k: 1.0}
-            coef[a] = coef.get(a, 0.0) - float(n[k] @ u)
-            coef[b] = coef.get(b, 0.0) - float(n[k] @ w)
-            if abs(ak) < _PARALLEL:
-                if antiparallel[k, a] or antiparallel[k, b]:
-                    continue  # gamma_k + gamma_a > 0: never cuts the line
-                kills.append(_form(coef, family, nf))
-            else:
-                form = _form({p: v / ak for p, v in coef.items()}, family, nf)
-                (ups if ak > 0 else lows).append(form)
+        ak = n @ d  # (N,)
+        coef = forms_for(a, b, u, w)  # (N, F+1)
+        other = (rows != a) & (rows != b)
+        parallel = other & (np.abs(ak) < _PARALLEL)
+        # a plane opposite to a or b never cuts the line (gamma_k + gamma_a > 0)
+        parallel &= ~antiparallel[:, a] & ~antiparallel[:, b]
+        cutting = other & (np.abs(ak) >= _PARALLEL)
+        scaled = coef / np.where(cutting, ak, 1.0)[:, None]
+        ups = list(scaled[cutting & (ak > 0)])
+        lows = list(scaled[cutting & (ak < 0)])
         if not ups or not lows:
             raise ValueError(
                 "the planes do not enclose a bounded solid (the line where planes "
@@ -340,7 +347,7 @@ def build_plan(
             )
         upper_groups.append(_prune(ups, True))
         lower_groups.append(_prune(lows, False))
-        kill_groups.append(_prune(kills, True))  # a minimum, like upper bounds
+        kill_groups.append(_prune(list(coef[parallel]), True))  # a minimum, like upper bounds
 
     # contributions: representative face r of each form, one partner per stabiliser orbit
     contrib_line: list[int] = []
@@ -365,19 +372,16 @@ def build_plan(
             coef_h[int(r)] = coef_h.get(int(r), 0.0) - c / s
             h_forms.append(_form(coef_h, family, nf))
             m_j = n[j] - c * n[r]
-            ties: list[F64] = []
-            for k in range(nplanes):
-                if k in (r, j) or abs(float(n[k] @ d)) >= _PARALLEL:
-                    continue
-                if antiparallel[k, r] or antiparallel[k, j]:
-                    continue
-                m_k = n[k] - float(n[k] @ n[r]) * n[r]
-                if float(m_k @ m_j) <= 0:
-                    continue  # the other side of the line
-                coef = {k: 1.0}
-                coef[int(r)] = coef.get(int(r), 0.0) - float(n[k] @ u)
-                coef[j] = coef.get(j, 0.0) - float(n[k] @ w)
-                ties.append(_form(coef, family, nf))
+            m_k = n - np.outer(n @ n[r], n[r])  # (N, 3) in-plane directions of the planes
+            same_side = (
+                (rows != r)
+                & (rows != j)
+                & (np.abs(n @ d) < _PARALLEL)
+                & ~antiparallel[:, r]
+                & ~antiparallel[:, j]
+                & (m_k @ m_j > 0)
+            )
+            ties = list(forms_for(int(r), j, u, w)[same_side])
             tie_groups.append(ties)
             # outward in-plane normals of the edges of the whole stabiliser orbit
             mm = n[members] - np.outer(cosmat[r, members], n[r])
