@@ -15,6 +15,12 @@ __version__ = "0.1.0"
 _PUBLIC: dict[str, str] = {
     "HabitError": "habit.errors",
     "Tolerances": "habit.tolerances",
+    "Polyhedron": "habit.polyhedron",
+    "symmetry_of": "habit.polysym",
+    "shape_name": "habit.shapes",
+    "bfdh": "habit.morphology",
+    "broken_bond_energies": "habit.bonds",
+    "winterbottom_shape": "habit.substrate",
     "solve_shapes": "habit.batch",
     "shape_map": "habit.batch",
     "sample_shapes": "habit.batch",

@@ -40,8 +40,19 @@ RADIUS_SOURCES = {
 }
 
 _ROMAN = {
-    1: "I", 2: "II", 3: "III", 4: "IV", 5: "V", 6: "VI", 7: "VII", 8: "VIII",
-    9: "IX", 10: "X", 11: "XI", 12: "XII", 14: "XIV",
+    1: "I",
+    2: "II",
+    3: "III",
+    4: "IV",
+    5: "V",
+    6: "VI",
+    7: "VII",
+    8: "VIII",
+    9: "IX",
+    10: "X",
+    11: "XI",
+    12: "XII",
+    14: "XIV",
 }
 
 
@@ -153,7 +164,7 @@ def atomic_packing_fraction(
     >>> atomic_packing_fraction(po, radii="magic")
     Traceback (most recent call last):
     ...
-    habit.errors.UnknownSymbolError: unknown radius source 'magic'; use one of contact, metallic, atomic, covalent, ionic, crystal, or give radii per element in Å.
+    habit.errors.UnknownSymbolError: unknown radius source 'magic'; use one of contact, ...
     """
     if len(structure) == 0:
         raise InputError("the structure has no atoms; a packing fraction needs atom positions.")

@@ -130,6 +130,65 @@ def _transform_space_group(sg: Any, p_matrix: FloatArray) -> Any:
     return symmetry.space_group_from_operations(rot_out, tr_out, number=sg.number)
 
 
+def _setting_symbol(sg: Any) -> Any:
+    """Give a space group found in a user's cell the symbol of that cell's setting.
+
+    The settings of one space-group type (e.g. Pnma and Pbnm, P2_1/c and P2_1/n) share
+    their rotations but differ in their reflection conditions, which do not depend on
+    the origin; the setting is the one of spglib's database whose rotations and
+    systematic absences (all |h|, |k|, |l| <= 4) match. Unmatched groups keep their
+    standard symbol.
+    """
+    import spglib
+
+    from habit import symmetry
+
+    rng = np.arange(-4, 5)
+    hkl = np.stack(np.meshgrid(rng, rng, rng, indexing="ij"), axis=-1).reshape(-1, 3)
+    hkl = hkl[np.any(hkl != 0, axis=1)]
+    mine = symmetry.is_absent(hkl, sg.rotations, sg.translations)
+    my_rots = {r.tobytes() for r in np.asarray(sg.rotations, dtype=np.int64)}
+    for hall in range(1, 531):
+        kind = spglib.get_spacegroup_type(hall)
+        if kind is None or kind.number != sg.number:
+            continue
+        db = spglib.get_symmetry_from_database(hall)
+        rots = np.asarray(db["rotations"], dtype=np.int64)
+        if {r.tobytes() for r in rots} != my_rots:
+            continue
+        if np.array_equal(symmetry.is_absent(hkl, rots, db["translations"]), mine):
+            symbol = str(kind.international_short)
+            if 3 <= sg.number <= 15:  # monoclinic: the full symbol names the setting
+                full = str(kind.international).split("=")[-1].split()
+                symbol = full[0] + "".join(t for t in full[1:] if t != "1")
+            return replace(sg, symbol=symbol, hall_number=hall)
+    letter = _centring_letter(sg)
+    if letter and sg.symbol[0] != letter:
+        return replace(sg, symbol=letter + sg.symbol[1:])
+    return sg
+
+
+def _centring_letter(sg: Any) -> str:
+    """The lattice letter of a cell from its pure translations ('' if none fits)."""
+    rots = np.asarray(sg.rotations)
+    trans = np.mod(np.asarray(sg.translations, dtype=float), 1.0)
+    pure = {
+        tuple(np.round(t, 4))
+        for r, t in zip(rots, trans, strict=True)
+        if np.array_equal(r, np.eye(3, dtype=rots.dtype)) and np.any(np.round(t, 4) % 1.0)
+    }
+    table = {
+        frozenset({(0.0, 0.5, 0.5)}): "A",
+        frozenset({(0.5, 0.0, 0.5)}): "B",
+        frozenset({(0.5, 0.5, 0.0)}): "C",
+        frozenset({(0.5, 0.5, 0.5)}): "I",
+        frozenset({(0.0, 0.5, 0.5), (0.5, 0.0, 0.5), (0.5, 0.5, 0.0)}): "F",
+    }
+    if not pure:
+        return "P"
+    return table.get(frozenset(pure), "")
+
+
 def _fmt_cell(cell: tuple[float, ...]) -> str:
     a, b, c, al, be, ga = cell
     return f"a={a:g} Å, b={b:g} Å, c={c:g} Å, alpha={al:g}°, beta={be:g}°, gamma={ga:g}°"
@@ -254,7 +313,7 @@ class Crystal:
         b: float | None = None,
         c: float | None = None,
         alpha: float = 90.0,
-        beta: float = 90.0,
+        beta: float | None = None,
         gamma: float | None = None,
         *,
         crystal_class: str | None = None,
@@ -296,7 +355,7 @@ class Crystal:
         >>> Crystal.from_cell(5.0, 5.0, 6.0, crystal_class='m-3m')
         Traceback (most recent call last):
         ...
-        habit.errors.CellError: a cubic class needs a = b = c and alpha = beta = gamma = 90°; got a=5 Å, b=5 Å, c=6 Å, alpha=90°, beta=90°, gamma=90°.
+        habit.errors.CellError: a cubic class needs a = b = c and ...
         """
         from habit import symmetry
 
@@ -318,6 +377,8 @@ class Crystal:
             if not (system == "cubic" or rhombo):
                 raise CellError(f"a {system} cell needs c; give c in Å.")
             c = a
+        if beta is None:
+            beta = alpha if rhombo else 90.0
         if gamma is None:
             if rhombo:
                 gamma = alpha
@@ -401,6 +462,7 @@ class Crystal:
         sg = symmetry.space_group_from_operations(
             np.asarray(dataset.rotations), np.asarray(dataset.translations), number=dataset.number
         )
+        sg = _setting_symbol(sg)
         rebuilt = Structure(
             Lattice(lattice),
             species,
@@ -427,6 +489,17 @@ class Crystal:
     def is_hexagonal_family(self) -> bool:
         """True for trigonal and hexagonal classes on hexagonal axes (print (hkil))."""
         return self.system in ("hexagonal", "trigonal") and self.setting != "rhombohedral"
+
+    @property
+    def cartesian_operations(self) -> FloatArray:
+        """The class's operations as Cartesian orthogonal matrices, (G, 3, 3).
+
+        ``R = A W A⁻¹`` with ``A`` the matrix whose columns are **a**, **b**, **c**.
+        """
+        a = self.lattice.T
+        ops = np.asarray(self.point_group.operations, dtype=float)
+        out: FloatArray = np.einsum("ij,gjk,kl->gil", a, ops, np.linalg.inv(a))
+        return out
 
     @property
     def volume(self) -> float:
@@ -482,13 +555,13 @@ class Crystal:
         """Standard name of the form {hkl} in this crystal class."""
         from habit import forms
 
-        return str(forms.form_name(_check_hkl(hkl), self.point_group, metric=self.metric))
+        return str(forms.form_name(_check_hkl(hkl), self.point_group))
 
     def is_closed_form(self, hkl: ArrayLike) -> bool:
         """Whether the faces of {hkl} alone enclose a solid."""
         from habit import forms
 
-        return bool(forms.is_closed_form(_check_hkl(hkl), self.point_group, metric=self.metric))
+        return bool(forms.is_closed_form(_check_hkl(hkl), self.point_group))
 
     def parse_face(self, text: str) -> tuple[int, int, int]:
         """Read a face as typed; four indices are accepted only on hexagonal axes.
@@ -498,7 +571,7 @@ class Crystal:
         >>> Crystal.from_cell(5.0, crystal_class='m-3m').parse_face('10-11')
         Traceback (most recent call last):
         ...
-        habit.errors.InvalidMillerIndexError: (10-11) has four indices, but this crystal is cubic; write three indices (hkl).
+        habit.errors.InvalidMillerIndexError: (10-11) has four indices, but ...
         """
         from habit.errors import InvalidMillerIndexError
         from habit.miller import parse_hkl, parse_indices
@@ -554,8 +627,8 @@ class Crystal:
         if ds is None:
             raise InputError("spglib could not find the symmetry of this structure.")
         p_matrix = np.asarray(ds.transformation_matrix, dtype=float)
-        # (a_s, b_s, c_s) = (a, b, c) P^-1  ->  faces transform with P^-1 too
-        hkl_matrix = np.linalg.inv(p_matrix).T
+        # (a_s, b_s, c_s) = (a, b, c) P^-1, so a face (row) transforms as h_s = h P^-1
+        hkl_matrix = np.linalg.inv(p_matrix)
         rounded = np.rint(hkl_matrix)
         if np.allclose(hkl_matrix, rounded, atol=1e-8):
             hkl_matrix = rounded.astype(np.int64)
@@ -606,7 +679,8 @@ def _read_cif_structure(path: Path) -> Any:
             parser = CifParser(str(path))
             structures = parser.parse_structures(primitive=False)
     except Exception as exc:  # pymatgen raises many kinds on a malformed file
-        raise FileFormatError(f"cannot read a structure from CIF {path}: {exc}".rstrip(".") + ".")
+        message = f"cannot read a structure from CIF {path}: {exc}".rstrip(".") + "."
+        raise FileFormatError(message) from None
     if not structures:
         raise FileFormatError(f"CIF {path} holds no structure with atoms.")
     return structures[0]
@@ -690,7 +764,7 @@ def _crystal_from_table(data: dict[str, Any], path: Path) -> Crystal:
         return Crystal.from_cif(cif_path, name=name)
     cell = data.get("cell")
     if not isinstance(cell, dict):
-        raise FileFormatError(f"{path} needs either cif = \"FILE.cif\" or a [cell] table.")
+        raise FileFormatError(f'{path} needs either cif = "FILE.cif" or a [cell] table.')
     if "a" not in cell:
         raise FileFormatError(f"{path}: [cell] needs at least a (in Å).")
     klass = cell.get("crystal_class")
@@ -711,7 +785,7 @@ def _crystal_from_table(data: dict[str, Any], path: Path) -> Crystal:
         num("b"),
         num("c"),
         num("alpha") or 90.0,
-        num("beta") or 90.0,
+        num("beta"),
         num("gamma"),
         crystal_class=klass,
         space_group=sg,
@@ -739,7 +813,7 @@ def load_crystal(spec: str | Path) -> Crystal:
     >>> load_crystal('no-such-mineral')
     Traceback (most recent call last):
     ...
-    habit.errors.FileFormatError: 'no-such-mineral' is neither a CIF or TOML file nor a bundled crystal; bundled: ...
+    habit.errors.FileFormatError: 'no-such-mineral' is neither a CIF or TOML file nor a ...
     """
     text = str(spec)
     path = Path(text)

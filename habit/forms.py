@@ -37,7 +37,7 @@ from habit.symmetry import (
     PointGroup,
     _axis,
     _main_axis,
-    _rotation_type,
+    _rotation_types,
     expand_form,
     point_group,
     point_group_from_operations,
@@ -56,18 +56,18 @@ CUBIC_FORM_NAMES: dict[str, dict[str, str]] = {
         "432": ("cube", "octahedron", "rhombic dodecahedron", "tetrahexahedron",
                 "trisoctahedron", "trapezohedron", "gyroid"),
         "-43m": ("cube", "tetrahedron", "rhombic dodecahedron", "tetrahexahedron",
-                 "tristetrahedron", "deltoid dodecahedron", "hextetrahedron"),
+                 "deltoid dodecahedron", "tristetrahedron", "hextetrahedron"),
         "m-3": ("cube", "octahedron", "rhombic dodecahedron", "pyritohedron",
                 "trisoctahedron", "trapezohedron", "diploid"),
         "23": ("cube", "tetrahedron", "rhombic dodecahedron", "pyritohedron",
-               "tristetrahedron", "deltoid dodecahedron", "tetartoid"),
+               "deltoid dodecahedron", "tristetrahedron", "tetartoid"),
     }.items()
 }  # fmt: skip
 """Names of the cubic forms by class and kind of position of the face normal.
 
-Kinds: on <100>; on <111>; on <110>; in a {100} plane; in a {110} plane nearer <110>
-than <100> ({hhl} with h > l, e.g. {221}); in a {110} plane nearer <100> ({hll} with
-h > l, e.g. {211}); general.
+Kinds: on <100>; on <111>; on <110>; in a {100} plane; in a {110} plane between <111>
+and <110> ({hhl} with h > l, e.g. {221}); in a {110} plane between <100> and <111>
+({hll} with h > l, e.g. {211}); general.
 """
 
 
@@ -85,7 +85,8 @@ def _cartesian(ops: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _unit(v: np.ndarray) -> np.ndarray:
-    return v / np.linalg.norm(v, axis=-1, keepdims=True)
+    out: np.ndarray = v / np.linalg.norm(v, axis=-1, keepdims=True)
+    return out
 
 
 def _equispaced(az: np.ndarray) -> bool:
@@ -136,12 +137,8 @@ def _uniaxial_name(faces: np.ndarray, group: PointGroup) -> str:
 
 def _cubic_name(faces: np.ndarray, group: PointGroup) -> str:
     ops = group.operations
-    types = np.array([abs(_rotation_type(w)) for w in ops])
-    chosen = (
-        ops[types == 4]
-        if np.any(types == 4)
-        else ops[np.array([_rotation_type(w) == 2 for w in ops])]
-    )
+    types = _rotation_types(ops)  # (G,)
+    chosen = ops[np.abs(types) == 4] if np.any(np.abs(types) == 4) else ops[types == 2]
     lattice, recip = _cartesian(ops)
     axes = _unit(np.array([_axis(w) for w in chosen]) @ lattice)  # <100> directions
     frame = [axes[0]]
@@ -202,11 +199,13 @@ def form_name(hkl: ArrayLike, group: PointGroup | str | ArrayLike) -> str:
     Notes
     -----
     Cubic names follow the common English usage: trapezohedron (tetragon-trioctahedron,
-    {211}), trisoctahedron (trigon-trioctahedron, {221}), tristetrahedron
-    (trigon-tritetrahedron, {221} in 23 and -43m), deltoid dodecahedron
-    (tetragon-tritetrahedron, {211}), pyritohedron ({hk0} in 23 and m-3), diploid,
-    gyroid (pentagon-icositetrahedron), tetartoid. The general form of -3m is a
-    ditrigonal scalenohedron and the forms of 2/m and mmm lying in a zone are rhombic
+    {211}: kites), trisoctahedron (trigon-trioctahedron, {221}: triangles),
+    tristetrahedron ({211} in 23 and -43m: triangles, a tetrahedron with a low pyramid on
+    each face), deltoid dodecahedron ({221} in 23 and -43m: kites), pyritohedron ({hk0} in
+    23 and m-3), diploid, gyroid (pentagon-icositetrahedron), tetartoid. Halving a form of
+    m-3m to the tetrahedral classes changes the face shape, so {211} gives triangles there
+    and {221} kites. The general form of -3m is a ditrigonal scalenohedron and the forms
+    of 2/m and mmm lying in a zone are rhombic
     prisms. See :data:`CUBIC_FORM_NAMES` and the module docstring.
 
     Examples

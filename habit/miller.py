@@ -48,7 +48,9 @@ def _split(text: str) -> tuple[str | None, list[int]]:
         raise InvalidMillerIndexError(f"indices must be text such as '1 1 0', got {text!r}.")
     raw = text.strip()
     if not raw:
-        raise InvalidMillerIndexError("empty Miller index; write e.g. '111', '1 0 -1 1' or '(110)'.")
+        raise InvalidMillerIndexError(
+            "empty Miller index; write e.g. '111', '1 0 -1 1' or '(110)'."
+        )
     opening = raw[0] if raw[0] in _BRACKETS else None
     body = raw
     if opening is not None:
@@ -147,9 +149,7 @@ def parse_hkl(text: str) -> tuple[int, int, int]:
         )
     hkl = hkil_to_hkl(values) if len(values) == 4 else (values[0], values[1], values[2])
     if hkl == (0, 0, 0):
-        raise InvalidMillerIndexError(
-            "(000) is not a face: at least one index must be non-zero."
-        )
+        raise InvalidMillerIndexError("(000) is not a face: at least one index must be non-zero.")
     return hkl
 
 

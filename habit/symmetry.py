@@ -187,6 +187,16 @@ def _rotation_type(w: IntArray) -> int:
     return -n  # -n = inversion times a proper rotation of order n
 
 
+_ORDER_OF_TRACE = np.array([2, 3, 4, 6, 1])  # proper trace -1, 0, 1, 2, 3 -> order
+
+
+def _rotation_types(ops: IntArray) -> IntArray:
+    """Vectorised :func:`_rotation_type` for (G, 3, 3) operations; returns (G,) ints."""
+    dets = np.rint(np.linalg.det(ops.astype(np.float64))).astype(np.int64)  # (G,)
+    traces = np.trace(ops, axis1=1, axis2=2) * dets  # (G,) trace of the proper part
+    return np.asarray(_ORDER_OF_TRACE[traces + 1] * dets, dtype=np.int64)
+
+
 @dataclass(frozen=True, slots=True, eq=False)
 class PointGroup:
     """One of the 32 crystal classes with its operations in a given basis.
@@ -318,7 +328,9 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
         ``"4/mmm"``, ``"-3 2/m"``, ``"bar3m"``, ``"3̄m"``), a monoclinic full symbol
         giving the unique axis (``"1 2/m 1"``, ``"1 1 2/m"``, ``"2/m 1 1"``), or a
         Schoenflies symbol (``"Oh"``, ``"D3d"``); case and spaces do not matter.
-        A PointGroup is returned unchanged.
+        A suffix picks the axes: ``":R"`` rhombohedral (``"-3m:R"``), ``":H"``
+        hexagonal (default), ``":a"``, ``":b"`` (default), ``":c"`` the unique axis of a
+        monoclinic class. A PointGroup is returned unchanged.
 
     Returns
     -------
@@ -336,13 +348,15 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
     ('m-3m', 'Oh', 48, True)
     >>> point_group("32").symbol, point_group("D3h").symbol
     ('321', '-6m2')
-    >>> point_group("5/m")
+    >>> point_group("5/m")  # doctest: +ELLIPSIS
     Traceback (most recent call last):
     ...
     habit.errors.UnknownSymbolError: unknown crystal class '5/m'; ...
     """
     if isinstance(symbol, PointGroup):
         return symbol
+    if isinstance(symbol, (int, np.integer)) and not isinstance(symbol, bool):
+        symbol = str(int(symbol))  # 432, 222, -1 typed as numbers
     if not isinstance(symbol, str):
         raise _unknown(symbol)
     return _parse_point_group(symbol)
@@ -350,6 +364,26 @@ def point_group(symbol: str | PointGroup) -> PointGroup:
 
 @lru_cache(maxsize=256)
 def _parse_point_group(symbol: str) -> PointGroup:
+    name, colon, setting = symbol.partition(":")
+    if colon:
+        group = _parse_point_group(name) if name.strip() else None
+        change = {"r": RHOMBOHEDRAL_AXES, "h": _I, "a": UNIQUE_AXIS_A, "b": _I}
+        change["c"] = UNIQUE_AXIS_C
+        key = setting.strip().lower()
+        if group is None or key not in change:
+            raise _unknown(symbol)
+        if (
+            key in "abc"
+            and group.system != "monoclinic"
+            or key in "rh"
+            and group.system != "trigonal"
+        ):
+            raise UnknownSymbolError(
+                f"setting ':{setting.strip()}' in {symbol!r} does not apply to class "
+                f"{group.symbol}; use ':R' or ':H' for trigonal and ':a', ':b', ':c' for "
+                "monoclinic classes."
+            )
+        return group if key in "bh" else group.transformed(change[key])
     text = symbol.strip().replace("\u2212", "-").replace("\u2013", "-")
     text = re.sub(r"(\d)[\u0304\u0305]", r"-\1", text)  # 3̄ -> -3
     text = re.sub(r"bar\s*", "-", text, flags=re.IGNORECASE)
@@ -385,8 +419,8 @@ def _parse_point_group(symbol: str) -> PointGroup:
 
 # --- identification from matrices --------------------------------------------------------
 def _signature(ops: IntArray) -> tuple[int, ...]:
-    types = [_rotation_type(w) for w in ops]
-    return tuple(types.count(t) for t in (1, 2, 3, 4, 6, -1, -2, -3, -4, -6))
+    types = _rotation_types(ops)
+    return tuple(int(np.count_nonzero(types == t)) for t in (1, 2, 3, 4, 6, -1, -2, -3, -4, -6))
 
 
 @lru_cache(maxsize=1)
@@ -434,9 +468,8 @@ def _variant(geometric: str, ops: IntArray) -> str:
     }[geometric]  # fmt: skip
     wanted = -2 if geometric == "3m" else 2
     main = _main_axis(ops)
-    axes = [
-        _axis(w) for w in ops if _rotation_type(w) == wanted and np.any(np.cross(_axis(w), main))
-    ]
+    twofolds = [_axis(w) for w in ops[_rotation_types(ops) == wanted]]
+    axes = [u for u in twofolds if np.any(np.cross(u, main))]  # not along the main axis
     minors = [np.cross(u, v) for i, u in enumerate(axes) for v in axes[i + 1 :]]
     index = reduce(math.gcd, (abs(int(x)) for m in minors for x in m), 0)
     return first if index == 1 else second
@@ -580,6 +613,18 @@ def expand_form(hkl: ArrayLike, operations: ArrayLike | str | PointGroup) -> Int
 def multiplicity(hkl: ArrayLike, group: ArrayLike | str | PointGroup) -> int:
     """Return the number of faces of the form {hkl} in ``group``.
 
+    Parameters
+    ----------
+    hkl : (3,) int array
+        Miller indices of one face.
+    group : (G, 3, 3) int array, PointGroup or str
+        The crystal class.
+
+    Returns
+    -------
+    int
+        The number of distinct faces; it divides the order of the group.
+
     Examples
     --------
     >>> multiplicity([2, 1, 0], "m-3m"), multiplicity([2, 1, 0], "m-3")
@@ -655,6 +700,8 @@ def _hall_table() -> tuple[dict[str, list[int]], dict[int, int], dict[int, Any]]
     types: dict[int, Any] = {}
     for hall in range(1, 531):
         t = spglib.get_spacegroup_type(hall)
+        if t is None:  # pragma: no cover - spglib's table covers 1..530
+            raise UnknownSymbolError(f"spglib has no Hall number {hall}.")
         types[hall] = t
         first.setdefault(t.number, hall)
         names = {t.international_short, t.international_full}
@@ -671,6 +718,8 @@ def _space_group_from_hall(hall: int) -> SpaceGroup:
     _, _, types = _hall_table()
     t = types[hall]
     sym = spglib.get_symmetry_from_database(hall)
+    if sym is None:  # pragma: no cover - spglib's table covers 1..530
+        raise UnknownSymbolError(f"spglib has no operations for Hall number {hall}.")
     rot = np.asarray(sym["rotations"], dtype=np.int64)
     trans = np.asarray(sym["translations"], dtype=np.float64) % 1.0
     pg = point_group_from_operations(rot)
@@ -731,7 +780,10 @@ def space_group(symbol_or_number: str | int | SpaceGroup) -> SpaceGroup:
 
 
 def space_group_from_operations(
-    rotations: ArrayLike, translations: ArrayLike, number: int | None = None
+    rotations: ArrayLike,
+    translations: ArrayLike,
+    number: int | None = None,
+    lattice: ArrayLike | None = None,
 ) -> SpaceGroup:
     """Build a SpaceGroup from operations given in the user's cell (e.g. from a CIF).
 
@@ -742,7 +794,10 @@ def space_group_from_operations(
     translations : (n, 3) float array
         Translation parts (fractions of the cell edges), centrings as separate operations.
     number : int, optional
-        Space-group number when known; otherwise spglib identifies it.
+        Space-group number when known; it is checked against spglib's identification.
+    lattice : (3, 3) float array, optional
+        Rows a, b, c of the cell (Å). Without it a metric kept by the rotations (the
+        average of ``W.T @ W``) is used, which is enough to identify the type.
 
     Returns
     -------
@@ -753,7 +808,8 @@ def space_group_from_operations(
     Raises
     ------
     InputError
-        If the shapes disagree or spglib cannot identify the operations.
+        If the shapes disagree, spglib cannot identify the operations or the type is not
+        ``number``.
 
     Examples
     --------
@@ -769,9 +825,16 @@ def space_group_from_operations(
             f"got {rot.shape[0]} rotations but {trans.shape[0]} translations;"
             " give one translation per rotation."
         )
+    if lattice is None:
+        metric = np.einsum("nji,njk->ik", rot, rot).astype(np.float64)  # sum of W^T W
+        cell = np.linalg.cholesky(metric / len(rot))  # rows a, b, c with cell @ cell.T = G
+    else:
+        cell = np.asarray(lattice, dtype=np.float64)
+        if cell.shape != (3, 3):
+            raise InputError(f"lattice must be a (3, 3) array of rows a, b, c, got {cell.shape}.")
     import spglib
 
-    t = spglib.get_spacegroup_type_from_symmetry(rot.astype(np.intc), trans)
+    t = spglib.get_spacegroup_type_from_symmetry(rot.astype(np.intc), trans, lattice=cell)
     if t is None:
         raise InputError("spglib could not identify these operations as a space group.")
     if number is not None and int(number) != t.number:
@@ -790,14 +853,31 @@ def _operations_pair(
     if translations is None:
         raise InputError("give translations with the rotations, or pass a SpaceGroup.")
     rot = _as_operations(group)
-    return rot, np.asarray(translations, dtype=np.float64).reshape(-1, 3)
+    trans = np.asarray(translations, dtype=np.float64)
+    if trans.shape != (len(rot), 3):
+        raise InputError(
+            f"translations must have shape ({len(rot)}, 3) to match the rotations,"
+            f" got {trans.shape}."
+        )
+    return rot, trans
+
+
+def _as_hkl_rows(hkl: ArrayLike) -> IntArray:
+    """Validate (3,) or (N, 3) integer Miller indices; returns (N, 3)."""
+    arr = np.asarray(hkl)
+    if arr.ndim not in (1, 2) or arr.shape[-1] != 3 or not np.issubdtype(arr.dtype, np.number):
+        raise InvalidMillerIndexError(f"expected (3,) or (N, 3) Miller indices, got {hkl!r}.")
+    rounded = np.rint(arr.astype(np.float64))
+    if not np.allclose(arr, rounded):
+        raise InvalidMillerIndexError(f"Miller indices must be integers, got {hkl!r}.")
+    return np.atleast_2d(rounded.astype(np.int64))
 
 
 def is_absent(
     hkl: ArrayLike,
     rotations: ArrayLike | SpaceGroup | str | int,
     translations: ArrayLike | None = None,
-) -> BoolArray:
+) -> bool | BoolArray:
     """Tell which reflections are systematically absent, from the operations alone.
 
     Parameters
@@ -828,15 +908,14 @@ def is_absent(
     [False, True, True, False]
     """
     rot, trans = _operations_pair(rotations, translations)
-    h = np.asarray(hkl, dtype=np.int64)
-    single = h.ndim == 1
-    h = np.atleast_2d(h)  # (N, 3)
+    single = np.ndim(hkl) == 1
+    h = _as_hkl_rows(hkl)  # (N, 3)
     moved = np.einsum("ni,gij->ngj", h, rot)  # (N, n, 3)
     fixed = np.all(moved == h[:, None, :], axis=-1)  # (N, n)
     phase = h @ trans.T  # (N, n)
     shifted = np.abs(phase - np.rint(phase)) > _ABS_TOL
-    absent = np.any(fixed & shifted, axis=1)  # (N,)
-    return absent[0] if single else absent
+    absent: BoolArray = np.any(fixed & shifted, axis=1)  # (N,)
+    return bool(absent[0]) if single else absent
 
 
 def first_allowed_order(
@@ -874,8 +953,8 @@ def first_allowed_order(
     (4, 1)
     """
     rot, trans = _operations_pair(space_group, None)
-    h = np.atleast_2d(np.asarray(hkl, dtype=np.int64))  # (N, 3)
-    if h.shape[-1] != 3 or np.any(np.all(h == 0, axis=1)):
+    h = _as_hkl_rows(hkl)  # (N, 3)
+    if np.any(np.all(h == 0, axis=1)):
         raise InvalidMillerIndexError(f"faces must be non-zero index triples, got {hkl!r}.")
     orders = np.zeros(len(h), dtype=np.int64)
     for n in range(1, max_order + 1):

@@ -101,8 +101,14 @@ class WulffShape:
         """Name of the solid ('cuboctahedron', 'cube + octahedron', ...)."""
         from habit.shapes import shape_name
 
-        names = [f.name for f in self.present_forms]
+        names = {i: f.name for i, f in enumerate(self.forms)}
         return str(shape_name(self.polyhedron, form_names=names))
+
+    def symmetry(self) -> Any:
+        """Symmetry of the shape found from its geometry alone (habit.polysym)."""
+        from habit.polysym import symmetry_of
+
+        return symmetry_of(self.polyhedron)
 
     def scaled_to(self, *, volume: float | None = None, diameter: float | None = None) -> Any:
         """The polyhedron scaled to a volume (Å³) or equivalent-sphere diameter (Å)."""
@@ -156,6 +162,27 @@ def _check_values(crystal: Crystal, hkls: list[tuple[int, int, int]], values: li
             )
         out.append(v)
     return out
+
+
+def _distinct_forms(
+    crystal: Crystal, hkls: list[tuple[int, int, int]], values: list[float]
+) -> tuple[list[tuple[int, int, int]], list[float]]:
+    """Drop repeats of a form given again with the same value (the first one is kept)."""
+    seen: dict[tuple[tuple[int, ...], ...], float] = {}
+    out_h, out_v = [], []
+    for hkl, value in zip(hkls, values, strict=True):
+        key = tuple(sorted(tuple(int(x) for x in m) for m in crystal.expand_form(hkl)))
+        if key in seen:
+            if not math.isclose(seen[key], value, rel_tol=1e-12):
+                raise InputError(
+                    f"the form {crystal.format_face(hkl, '{}')} is given twice with different "
+                    f"values ({seen[key]:g} and {value:g}); give each form once."
+                )
+            continue
+        seen[key] = value
+        out_h.append(hkl)
+        out_v.append(value)
+    return out_h, out_v
 
 
 def form_planes(
@@ -279,9 +306,9 @@ def wulff_shape(
     Examples
     --------
     >>> xtal = Crystal.from_cell(4.08, crystal_class='m-3m')
-    >>> shape = wulff_shape(xtal, {'111': 1.0, '100': 2 / 3 ** 0.5})   # r = 2/sqrt(3)
+    >>> shape = wulff_shape(xtal, {'100': 1.0, '111': 2 / 3 ** 0.5})   # r = 2/sqrt(3)
     >>> [f.label for f in shape.present_forms], shape.polyhedron.n_vertices
-    (['{111}', '{100}'], 12)
+    (['{100}', '{111}'], 12)
     >>> wulff_shape(xtal, {'111': -1.0})
     Traceback (most recent call last):
     ...
@@ -296,6 +323,7 @@ def wulff_shape(
     if not hkls:
         raise InputError("give at least one form and its value.")
     values = _check_values(crystal, hkls, raw_values, kind)
+    hkls, values = _distinct_forms(crystal, hkls, values)
     normals, distances, hkl_all, form_ids = form_planes(crystal, hkls, values)
     labels = [crystal.format_face(h, "{}") for h in hkls]
     try:
@@ -314,21 +342,20 @@ def wulff_shape(
     n_forms = len(hkls)
     areas = np.bincount(poly.form_ids, weights=poly.face_areas, minlength=n_forms)
     total = float(areas.sum())
+    on_shape = set(poly.form_ids.tolist())
     results = []
     for i, hkl in enumerate(hkls):
-        mult = int(np.sum(form_ids == i))
-        duplicate = mult == 0  # a repeat of an earlier form with the same value
         results.append(
             FormResult(
                 hkl=tuple(int(x) for x in hkl),  # type: ignore[arg-type]
                 label=labels[i],
                 name=crystal.form_name(hkl),
-                multiplicity=crystal.multiplicity(hkl) if duplicate else mult,
+                multiplicity=int(np.sum(form_ids == i)),
                 value=values[i],
                 distance=values[i],
                 area=float(areas[i]),
                 area_fraction=float(areas[i] / total),
-                present=bool(areas[i] > tol.area * total),
+                present=i in on_shape,
             )
         )
     mean = None

@@ -221,6 +221,101 @@ def test_four_and_three_index_forms_give_the_same_normal(hkl):
     e1 = QUARTZ.lattice[0] / a
     e2 = QUARTZ.lattice[1] / a
     e3 = -(e1 + e2)
-    h, k, i, l = hkl_to_hkil(hkl)
+    h, k, i, l = hkl_to_hkil(hkl)  # noqa: E741
     g = 2 / (3 * a) * (h * e1 + k * e2 + i * e3) + l / c * np.array([0.0, 0.0, 1.0])
     assert np.allclose(QUARTZ.normals(hkl), g / np.linalg.norm(g), atol=1e-12)
+
+
+# --- loading from files and names ------------------------------------------------------
+from habit.crystal import bundled_crystals, load_crystal, read_crystal_file  # noqa: E402
+from habit.errors import FileFormatError  # noqa: E402
+
+CIFS = sorted(p for p in bundled_crystals().values() if p.suffix == ".cif")
+TOMLS = sorted(p for p in bundled_crystals().values() if p.suffix == ".toml")
+# point groups of the bundled space groups (International Tables Vol. A; the class of a
+# space group is its symbol with translations dropped)
+EXPECTED_CLASS = {
+    "quartz": "321",
+    "calcite": "-3m1",
+    "corundum": "-3m1",
+    "zircon": "4/mmm",
+    "rutile": "4/mmm",
+    "fluorite": "m-3m",
+    "pyrite": "m-3",
+    "copper": "m-3m",
+    "zincite": "6mm",
+    "forsterite": "mmm",
+    "diopside": "2/m",
+    "albite": "-1",
+    "kyanite": "-1",
+    "iron": "m-3m",
+}
+
+
+@pytest.mark.parametrize("path", CIFS, ids=[p.stem for p in CIFS])
+def test_bundled_cif_keeps_its_cell_and_finds_its_class(path):
+    import spglib
+    from pymatgen.core import Structure
+
+    crystal = Crystal.from_cif(path)
+    structure = Structure.from_file(path, primitive=False)
+    given = (*structure.lattice.abc, *structure.lattice.angles)
+    assert np.allclose(crystal.cell, given, atol=1e-9)  # never re-standardised
+    cell = (crystal.lattice, structure.frac_coords, [s.specie.Z for s in structure])
+    dataset = spglib.get_symmetry_dataset(cell, symprec=1e-3)
+    assert crystal.space_group.number == dataset.number
+    assert crystal.point_group.order == len({r.tobytes() for r in dataset.rotations})
+    if path.stem in EXPECTED_CLASS:
+        assert crystal.point_group.symbol == EXPECTED_CLASS[path.stem]
+    assert crystal.source  # every bundled CIF cites its source
+
+
+@pytest.mark.parametrize("path", TOMLS, ids=[p.stem for p in TOMLS])
+def test_bundled_toml_files_load(path):
+    crystal = read_crystal_file(path)
+    assert crystal.forms is not None and crystal.forms.values
+    assert all(v > 0 for v in crystal.forms.values)
+    assert load_crystal(path.stem).name == crystal.name
+
+
+def test_bundled_name_and_refusals(tmp_path):
+    assert load_crystal("zircon").point_group.symbol == "4/mmm"
+    with pytest.raises(FileFormatError, match="bundled"):
+        load_crystal("unobtainium")
+    with pytest.raises(FileFormatError, match="no such file"):
+        load_crystal(tmp_path / "missing.cif")
+    bad = tmp_path / "four.toml"
+    bad.write_text('[cell]\na = 5.0\ncrystal_class = "m-3m"\n[forms]\n"10-11" = 1.0\n')
+    with pytest.raises(InvalidMillerIndexError, match="four indices"):
+        read_crystal_file(bad)
+    nocell = tmp_path / "nocell.toml"
+    nocell.write_text('name = "x"\n')
+    with pytest.raises(FileFormatError, match="cif"):
+        read_crystal_file(nocell)
+
+
+def test_inline_cell_from_space_group():
+    # calcite by its space group R-3c (No. 167) on hexagonal axes
+    crystal = Crystal.from_cell(4.9896, c=17.061, space_group="R-3c")
+    assert crystal.point_group.symbol == "-3m1"
+    assert crystal.is_absent([0, 0, 3]) and not crystal.is_absent([0, 0, 6])
+    assert Crystal.from_cell(4.9896, c=17.061, space_group=167).space_group.number == 167
+
+
+def test_conventional_setting_on_request():
+    # forsterite is bundled in Pbnm; the standard setting of No. 62 is Pnma. habit keeps
+    # Pbnm and offers the conventional setting with the index transformation on request.
+    crystal = load_crystal("forsterite")
+    std, matrix = crystal.conventional()
+    assert std.space_group.number == crystal.space_group.number == 62
+    # the symbol names the setting of the cell (International Tables Vol. A, Table 4.3.2.1)
+    assert (crystal.space_group.symbol, std.space_group.symbol) == ("Pbnm", "Pnma")
+    face = np.array([0, 1, 0])  # b in Pbnm is the longest edge (10.2 Å)
+    face_std = face @ matrix
+    assert std.d_spacing(face_std) == pytest.approx(crystal.d_spacing(face), rel=1e-9)
+
+
+def test_setting_symbols_of_bundled_cells():
+    # albite is given in the centred C-1 cell of the feldspar literature (Downs et al. 1994)
+    assert load_crystal("albite").space_group.symbol == "C-1"
+    assert load_crystal("diopside").space_group.symbol == "C2/c"

@@ -134,3 +134,87 @@ def test_open_forms_name_a_direction():
     with pytest.raises(OpenShapeError) as info:
         wulff_shape(QUARTZ, {"10-10": 1.0})
     assert "[0001]" in str(info.value)
+
+
+# --- invariants over random classes, cells and energies ----------------------------------
+from habit.symmetry import POINT_GROUP_SYMBOLS, point_group  # noqa: E402
+
+BOX = [(1, 0, 0), (-1, 0, 0), (0, 1, 0), (0, -1, 0), (0, 0, 1), (0, 0, -1)]
+
+
+@st.composite
+def crystals(draw):
+    symbol = draw(st.sampled_from(sorted(POINT_GROUP_SYMBOLS)))
+    system = point_group(symbol).system
+    length = st.floats(3.0, 12.0)
+    a, b, c = draw(length), draw(length), draw(length)
+    if system == "cubic":
+        return Crystal.from_cell(a, crystal_class=symbol)
+    if system == "tetragonal":
+        return Crystal.from_cell(a, c=c, crystal_class=symbol)
+    if system in ("hexagonal", "trigonal"):
+        return Crystal.from_cell(a, c=c, crystal_class=symbol)
+    if system == "orthorhombic":
+        return Crystal.from_cell(a, b, c, crystal_class=symbol)
+    if system == "monoclinic":
+        beta = draw(st.floats(92.0, 125.0))
+        return Crystal.from_cell(a, b, c, 90, beta, 90, crystal_class=symbol)
+    angles = [draw(st.floats(70.0, 110.0)) for _ in range(3)]
+    return Crystal.from_cell(a, b, c, *angles, crystal_class=symbol)
+
+
+@st.composite
+def crystal_and_forms(draw):
+    crystal = draw(crystals())
+    forms = {h: 2.0 for h in BOX}  # a closing box of pinacoid/pedion faces, all at 2.0
+    seen = {tuple(sorted(map(tuple, crystal.expand_form(h).tolist()))) for h in BOX}
+    index = st.integers(-2, 2)
+    for _ in range(draw(st.integers(1, 4))):
+        hkl = (draw(index), draw(index), draw(index))
+        if sum(1 for x in hkl if x) < 2:
+            continue
+        key = tuple(sorted(map(tuple, crystal.expand_form(hkl).tolist())))
+        if key in seen:
+            continue
+        seen.add(key)
+        forms[hkl] = draw(st.floats(0.9, 1.9))
+    return crystal, forms
+
+
+@settings(max_examples=40, deadline=None)
+@given(crystal_and_forms(), st.floats(0.2, 5.0), st.randoms(use_true_random=False))
+def test_wulff_invariants_over_random_classes(data, factor, rnd):
+    crystal, forms = data
+    shape = wulff_shape(crystal, forms)
+    poly = shape.polyhedron
+    # every face lies at its energy from the Wulff point: all its vertices are on the plane
+    for f, loop in enumerate(poly.faces):
+        heights = poly.vertices[loop] @ poly.normals[f]
+        assert np.allclose(heights, poly.distances[f], atol=1e-9 * poly.circumradius)
+    value_of = {f.label: f.value for f in shape.forms}
+    labels = [shape.forms[i].label for i in poly.form_ids]
+    assert np.allclose(poly.distances, [value_of[lab] for lab in labels])
+    # Euler's formula and Descartes' total angle defect of 4π (720°)
+    assert poly.n_vertices - poly.n_edges + poly.n_faces == 2
+    assert float(np.sum(poly.angle_defects)) == pytest.approx(4 * math.pi, abs=1e-9)
+    # a shape built from whole forms has at least the symmetry of the crystal class
+    assert shape.symmetry().contains(crystal.cartesian_operations)
+    # scaling every energy scales lengths; area fractions do not change
+    scaled = wulff_shape(crystal, {h: v * factor for h, v in forms.items()})
+    assert scaled.polyhedron.volume == pytest.approx(poly.volume * factor**3, rel=1e-9)
+    assert np.allclose(
+        [f.area_fraction for f in scaled.forms], [f.area_fraction for f in shape.forms], atol=1e-9
+    )
+    # the order in which forms are given does not matter
+    items = list(forms.items())
+    rnd.shuffle(items)
+    shuffled = wulff_shape(crystal, dict(items))
+    assert shuffled.polyhedron.volume == pytest.approx(poly.volume, rel=1e-12)
+
+    def key(form):  # a form is its set of faces, whichever face was typed
+        return frozenset(map(tuple, crystal.expand_form(form.hkl).tolist()))
+
+    by_form = {key(f): f.area_fraction for f in shuffled.forms}
+    assert by_form.keys() == {key(f) for f in shape.forms}
+    for f in shape.forms:
+        assert by_form[key(f)] == pytest.approx(f.area_fraction, abs=1e-12)

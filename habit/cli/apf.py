@@ -73,8 +73,13 @@ def command(
             "fraction": float(f),
         }
         for i, (label, r, c, f) in enumerate(
-            zip(result.site_labels, result.radii, result.coordination, result.site_fractions,
-                strict=True)
+            zip(
+                result.site_labels,
+                result.radii,
+                result.coordination,
+                result.site_fractions,
+                strict=True,
+            )
         )
     ]
     overlaps = [

@@ -39,7 +39,10 @@ def command(
             "source": crystal.forms.source,
             "values": {crystal.format_face(h, ""): v for h, v in crystal.forms.as_dict().items()},
         }
-    lines = [crystal_header(crystal), f"setting: {crystal.setting}; cell volume {crystal.volume:.3f} Å³"]
+    lines = [
+        crystal_header(crystal),
+        f"setting: {crystal.setting}; cell volume {crystal.volume:.3f} Å³",
+    ]
     if crystal.source:
         lines.append(f"source: {crystal.source}")
     if conventional:

@@ -26,12 +26,9 @@ def command(out_dir: str) -> None:
     import io as textio
     from pathlib import Path
 
-    from habit import io
     from habit.cli._common import atomic_output, crystal_header, crystal_json, write_json
-    from habit.cli.wulff import print_report, shape_report
+    from habit.cli.wulff import draw_shape, print_report, shape_report, write_solid
     from habit.crystal import STRUCTURES_DIR, read_crystal_file
-    from habit.plot import save_figure
-    from habit.plot.shape import plot_shape
     from habit.wulff import wulff_shape
 
     crystal = read_crystal_file(STRUCTURES_DIR / "demo.toml")
@@ -48,10 +45,9 @@ def command(out_dir: str) -> None:
     with atomic_output(out / "table.txt") as handle:
         handle.write(text)
     for suffix in ("png", "svg"):
-        artists = plot_shape(shape.polyhedron, title=crystal.name)
-        save_figure(artists[0].figure, out / f"shape.{suffix}")
-    io.write_mesh(shape.polyhedron, out / "shape.stl")
-    io.write_mesh(shape.polyhedron, out / "shape.obj")
+        draw_shape(shape, str(out / f"shape.{suffix}"))
+    write_solid(shape.polyhedron, out / "shape.stl")
+    write_solid(shape.polyhedron, out / "shape.obj")
     write_json(report, str(out / "shape.json"))
     click.echo(f"\nThe scenario and its numbers are invented for the demo. Outputs in {out}/:")
     for name in ("table.txt", "shape.png", "shape.svg", "shape.stl", "shape.obj", "shape.json"):

@@ -25,8 +25,13 @@ def command(
     Prints the form's name, its multiplicity (number of faces), whether it is closed,
     its d-spacing in Å and its faces.
     """
-    from habit.cli._common import crystal_header, crystal_json, parse_faces, resolve_crystal
-    from habit.cli._common import write_json
+    from habit.cli._common import (
+        crystal_header,
+        crystal_json,
+        parse_faces,
+        resolve_crystal,
+        write_json,
+    )
     from habit.errors import InputError
 
     crystal, rest = resolve_crystal(args, cell, crystal_class, space_group)

@@ -7,11 +7,14 @@ from typing import Any
 import click
 
 from habit.cli._common import crystal_options, json_option
+from habit.cli._substrate import substrate_options
 
 KIND_UNITS = {"energy": "J/m²", "distance": "relative", "rate": "relative"}
 
 
-def parse_form_options(crystal: Any, texts: tuple[str, ...]) -> list[tuple[tuple[int, int, int], float]]:
+def parse_form_options(
+    crystal: Any, texts: tuple[str, ...]
+) -> list[tuple[tuple[int, int, int], float]]:
     """Read ``--form HKL=VALUE`` options against a crystal."""
     from habit.errors import InputError
 
@@ -30,11 +33,9 @@ def parse_form_options(crystal: Any, texts: tuple[str, ...]) -> list[tuple[tuple
 
 def shape_report(shape: Any) -> dict[str, Any]:
     """The stable JSON/table record of a Wulff shape."""
-    from habit.polysym import point_group_of
-
     poly = shape.polyhedron
-    sym = point_group_of(poly)
-    class_ops = shape.crystal.point_group
+    sym = shape.symmetry()
+    crystal = shape.crystal
     h0 = min(f.distance for f in shape.forms)
     return {
         "crystal": None,
@@ -62,10 +63,11 @@ def shape_report(shape: Any) -> dict[str, Any]:
         "n_faces": int(poly.n_faces),
         "mean_energy_J_m2": shape.mean_energy,
         "symmetry": {
-            "point_group": sym.symbol,
+            "point_group": sym.hm,
+            "schoenflies": sym.schoenflies,
             "order": int(sym.order),
-            "contains_crystal_class": bool(sym.contains(shape.crystal, class_ops)),
-            "crystal_class": class_ops.symbol,
+            "contains_crystal_class": bool(sym.contains(crystal.cartesian_operations)),
+            "crystal_class": crystal.point_group.symbol,
         },
     }
 
@@ -120,8 +122,11 @@ def print_report(report: dict[str, Any], crystal_line: str) -> None:
 @click.option("--distances", "kind", flag_value="distance", help="Values are central distances.")
 @click.option("--rates", "kind", flag_value="rate", help="Values are growth rates (kinetic shape).")
 @click.option("--plot", "plot_path", metavar="FILE", help="Draw the shape (.png or .svg).")
-@click.option("--view", metavar="AZIM,ELEV", help="View direction in degrees (default clinographic).")
+@click.option(
+    "--view", metavar="AZIM,ELEV", help="View direction in degrees (default clinographic)."
+)
 @click.option("--export", "export_path", metavar="FILE", help="Write the solid (.stl, .obj).")
+@substrate_options
 @json_option
 def command(
     args: tuple[str, ...],
@@ -133,6 +138,10 @@ def command(
     plot_path: str | None,
     view: str | None,
     export_path: str | None,
+    substrate: str | None,
+    adhesion: float | None,
+    interface_energy: float | None,
+    substrate_energy: float | None,
     json_path: str | None,
 ) -> None:
     """Build the Wulff shape of CRYSTAL and print its form table.
@@ -155,24 +164,51 @@ def command(
     shape = wulff_shape(crystal, forms, kind=kind)
     report = shape_report(shape)
     report["crystal"] = crystal_json(crystal)
+    from habit.cli import _substrate as sub
+
+    extra = (adhesion, interface_energy, substrate_energy)
+    particle = sub.supported_particle(shape, substrate, *extra)
+    if particle is not None:
+        h0 = min(f.distance for f in shape.forms)
+        report["substrate"] = sub.substrate_report(particle, h0)
+        if particle.polyhedron is None and outputs:
+            raise InputError("a film has no particle shape to draw or export.")
+        shape = particle  # draw and export the supported particle
     if json_path != "-":
         print_report(report, crystal_header(crystal))
+        if particle is not None:
+            sub.print_substrate(report["substrate"])
     if plot_path:
-        from habit.plot import save_figure
-        from habit.plot.shape import plot_shape
-
-        azim_elev = _parse_view(view)
-        artists = plot_shape(shape.polyhedron, view=azim_elev, title=crystal.name)
-        save_figure(artists[0].figure, plot_path)
+        draw_shape(shape, plot_path, _parse_view(view))
     if export_path:
-        from habit import io
-
-        io.write_mesh(shape.polyhedron, export_path)
+        write_solid(shape.polyhedron, export_path)
     if json_path is not None:
         write_json(report, json_path)
     if json_path != "-":
         for p in outputs:
             click.echo(f"wrote {p}")
+
+
+def draw_shape(shape: Any, path: str, view: tuple[float, float] | None = None) -> None:
+    """Draw a Wulff shape to PNG/SVG, titled with the crystal and the shape's name."""
+    from habit.plot import save_figure
+    from habit.plot.shape import plot_polyhedron
+
+    azim, elev = view if view is not None else (None, None)
+    art = plot_polyhedron(shape.polyhedron, azimuth_deg=azim, elevation_deg=elev)
+    ax = art.faces.axes
+    ax.set_title(f"{shape.crystal.name}\n{shape.shape_name()}", fontsize=9)
+    save_figure(ax.figure, path)
+
+
+def write_solid(poly: Any, path: Any) -> None:
+    """Write a polyhedron as STL, OBJ or JSON, by the file's suffix."""
+    from pathlib import Path
+
+    from habit import io
+
+    writer = {".stl": io.write_stl, ".obj": io.write_obj, ".json": io.write_polyhedron_json}
+    writer[Path(path).suffix.lower()](poly, path)
 
 
 def _check_outputs(plot_path: str | None, export_path: str | None) -> None:

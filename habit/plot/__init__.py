@@ -8,39 +8,62 @@ to matplotlib, returns the artists it made and never calls ``show()``.
 from __future__ import annotations
 
 import os
+from pathlib import Path
 from typing import Any
 
 __all__ = ["save_figure"]
 
 
-def save_figure(fig: Any, path: str | os.PathLike[str], **kwargs: Any) -> None:
-    """Save a figure to PNG or SVG (by the file's suffix) atomically, then close it.
+def save_figure(fig: Any, path: str | os.PathLike[str], *, dpi: float = 200.0) -> Path:
+    """Save a figure as PNG, SVG or PDF (by the file suffix), atomically.
 
-    Nothing half-written is left at ``path`` if saving fails.
+    The figure is rendered into a temporary file beside ``path`` and moved into place
+    with ``os.replace``, so a failure never leaves a partial file.
+
+    Parameters
+    ----------
+    fig : matplotlib Figure
+        The figure.
+    path : str or path-like
+        Target; suffix ``.png``, ``.svg`` or ``.pdf``.
+    dpi : float
+        Resolution for PNG, dots per inch.
+
+    Returns
+    -------
+    pathlib.Path
+
+    Raises
+    ------
+    FileFormatError
+        Unknown suffix or missing folder.
     """
     import contextlib
     import tempfile
-    from pathlib import Path
 
-    import matplotlib.pyplot as plt
-
-    from habit.errors import InputError
+    from habit.errors import FileFormatError
 
     target = Path(path)
     fmt = target.suffix.lower().lstrip(".")
-    if fmt not in ("png", "svg", "pdf"):
-        raise InputError(f"a figure is written as .png, .svg or .pdf; got {target.name!r}.")
-    if not (target.parent if str(target.parent) else Path(".")).is_dir():
-        raise InputError(f"cannot write {target}: its folder does not exist.")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent)
+    if fmt not in {"png", "svg", "pdf"}:
+        raise FileFormatError(
+            f"cannot save a figure as {target.name!r}: use a .png, .svg or .pdf file name."
+        )
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise FileFormatError(f"cannot write {target}: folder {folder} does not exist.")
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
     os.close(fd)
     try:
-        kwargs.setdefault("dpi", 150)
-        fig.savefig(tmp, format=fmt, **kwargs)
+        fig.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight")
         os.replace(tmp, target)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
         raise
-    finally:
-        plt.close(fig)
+    import sys
+
+    pyplot = sys.modules.get("matplotlib.pyplot")
+    if pyplot is not None:  # figures made through pyplot are registered there; free them
+        pyplot.close(fig)
+    return target

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import json
-import math
 
 import numpy as np
 import pytest
@@ -45,11 +44,14 @@ def test_wulff_runs_on_every_bundled_crystal_with_forms(runner, tmp_path, name):
     shape = wulff_shape(load_crystal(name))
     poly = shape.polyhedron
     v32 = poly.vertices.astype(np.float32).astype(float)
-    exact32 = sum(
-        float(np.dot(v32[f[0]], np.cross(v32[f[i]], v32[f[i + 1]])))
-        for f in poly.faces
-        for i in range(1, len(f) - 1)
-    ) / 6.0
+    exact32 = (
+        sum(
+            float(np.dot(v32[f[0]], np.cross(v32[f[i]], v32[f[i + 1]])))
+            for f in poly.faces
+            for i in range(1, len(f) - 1)
+        )
+        / 6.0
+    )
     mesh = trimesh.load(stl)
     assert mesh.is_watertight
     assert mesh.volume == pytest.approx(exact32, rel=1e-9)
@@ -61,15 +63,26 @@ def test_wulff_runs_on_every_bundled_crystal_with_forms(runner, tmp_path, name):
 
 
 def test_forms_as_options_and_kinds(runner):
-    argv = ["wulff", "--cell", "4.0782,4.0782,4.0782,90,90,90", "--class", "m-3m",
-            "--form", "111=1.0", "--form", "100=1.1547005383792517", "--json", "-"]
+    argv = [
+        "wulff",
+        "--cell",
+        "4.0782,4.0782,4.0782,90,90,90",
+        "--class",
+        "m-3m",
+        "--form",
+        "100=1.0",
+        "--form",
+        "111=1.1547005383792517",
+        "--json",
+        "-",
+    ]
     result = runner.invoke(main, argv)
     assert result.exit_code == 0, result.output
     report = json.loads(result.output)
     assert report["shape_name"] == "cuboctahedron"
     assert report["n_vertices"] == 12
-    # cuboctahedron with h111 = 1: V = 20/3 h100³ with h100 = 2/√3 (closed form)
-    assert report["volume_h0_3"] == pytest.approx(20 / 3 * (2 / math.sqrt(3)) ** 3, rel=1e-9)
+    # r = γ111/γ100 = 2/√3 gives the cuboctahedron, V = 20/3 h100³ (closed form)
+    assert report["volume_h0_3"] == pytest.approx(20 / 3, rel=1e-9)
     assert report["mean_energy_J_m2"] is not None
 
 
@@ -86,8 +99,20 @@ REFUSED = [
 @pytest.mark.parametrize(("extra", "fragment"), REFUSED, ids=[r[1] for r in REFUSED])
 def test_refusals_write_nothing(runner, tmp_path, extra, fragment):
     png, stl, js = tmp_path / "s.png", tmp_path / "s.stl", tmp_path / "s.json"
-    argv = ["wulff", "--cell", "4,4,4,90,90,90", "--class", "m-3m", *extra,
-            "--plot", str(png), "--export", str(stl), "--json", str(js)]
+    argv = [
+        "wulff",
+        "--cell",
+        "4,4,4,90,90,90",
+        "--class",
+        "m-3m",
+        *extra,
+        "--plot",
+        str(png),
+        "--export",
+        str(stl),
+        "--json",
+        str(js),
+    ]
     result = runner.invoke(main, argv)
     assert result.exit_code != 0
     assert fragment in result.output
@@ -97,8 +122,18 @@ def test_refusals_write_nothing(runner, tmp_path, extra, fragment):
 
 def test_open_forms_refused_without_files(runner, tmp_path):
     stl = tmp_path / "s.stl"
-    argv = ["wulff", "--cell", "4.9133,4.9133,5.4053,90,90,120", "--class", "32",
-            "--form", "10-10=1", "--distances", "--export", str(stl)]
+    argv = [
+        "wulff",
+        "--cell",
+        "4.9133,4.9133,5.4053,90,90,120",
+        "--class",
+        "32",
+        "--form",
+        "10-10=1",
+        "--distances",
+        "--export",
+        str(stl),
+    ]
     result = runner.invoke(main, argv)
     assert result.exit_code == 1
     assert "do not close a solid" in result.output
