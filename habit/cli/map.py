@@ -138,7 +138,7 @@ def command(
             artists = plot_map_fraction(result, fraction_form, unit=unit)
         else:
             artists = plot_map_regions(result, unit=unit)
-        save_figure(artists[0].axes.figure, plot_path, bbox_inches="tight")
+        save_figure(artists[0].axes.figure, plot_path)
     if json_path is not None:
         write_json(report, json_path)
     if not quiet:

@@ -201,9 +201,7 @@ def command(
         from habit.plot.maps import plot_sample_histograms
 
         artists = plot_sample_histograms(out)
-        fig = artists[0][0].figure
-        fig.tight_layout()
-        save_figure(fig, plot_path)
+        save_figure(artists[0][0].figure, plot_path)
     if json_path is not None:
         write_json(report, json_path)
     if not quiet:

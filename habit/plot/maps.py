@@ -23,7 +23,7 @@ def _axes(ax: Any) -> Any:
     if ax is None:
         import matplotlib.pyplot as plt
 
-        _, ax = plt.subplots(figsize=(6.0, 4.8))
+        _, ax = plt.subplots(figsize=(6.4, 6.4), layout="constrained")
     return ax
 
 
@@ -113,8 +113,8 @@ def plot_map_regions(
                 handles=handles,
                 title="forms present",
                 fontsize="small",
-                loc="upper left",
-                bbox_to_anchor=(1.02, 1.0),
+                loc="upper center",
+                bbox_to_anchor=(0.5, -0.14),
                 borderaxespad=0.0,
             )
         )
@@ -182,7 +182,9 @@ def plot_sample_histograms(
     planes = summary.planes
     nf = planes.n_forms
     if ax is None:
-        _, grid = plt.subplots(1, nf + 1, figsize=(3.2 * (nf + 1), 3.0), squeeze=False)
+        _, grid = plt.subplots(
+            1, nf + 1, figsize=(3.2 * (nf + 1), 3.0), squeeze=False, layout="constrained"
+        )
         axes: list[Any] = list(grid[0])
     else:
         axes = list(np.atleast_1d(ax))
