@@ -32,6 +32,12 @@ whose in-plane outward direction points the same way are counted with weight ``1
 of them); partners from the opposite side (then the face has collapsed onto the line)
 cancel. The weights are computed per shape, since ties happen only at special energies.
 
+Whether a parallel plane ``k`` passes through the line of ``r`` and ``j`` is judged by
+``D = sin(theta_rj) * b_k``, where ``b_k`` is the line's distance from plane ``k``: ``D`` is
+(up to sign) the determinant of the three planes in the cross-section, so the pairs
+``(r, j)``, ``(r, k)`` and ``(j, k)`` always agree on whether the three planes meet in one line
+(``|D| <= TIE``) and, if not, which plane cuts which line away.
+
 Self-check. For every face the edge vectors must close: the sum over its edges of
 ``l_rj * m_rj`` (``m_rj`` the in-plane outward unit normal of the edge) is zero. Shapes that
 fail this check (nearly degenerate input, rounding) are marked, and the caller recomputes
@@ -329,7 +335,7 @@ def build_plan(
 
     for keyval in line_keys:
         a, b = divmod(int(keyval), nplanes)
-        d, u, w, _, _ = _line_frame(n[a], n[b])
+        d, u, w, _, s_ab = _line_frame(n[a], n[b])
         ak = n @ d  # (N,)
         coef = forms_for(a, b, u, w)  # (N, F+1)
         other = (rows != a) & (rows != b)
@@ -347,7 +353,8 @@ def build_plan(
             )
         upper_groups.append(_prune(ups, True))
         lower_groups.append(_prune(lows, False))
-        kill_groups.append(_prune(list(coef[parallel]), True))  # a minimum, like upper bounds
+        # parallel planes are judged by s_ab * b (see _tie_note), a minimum like upper bounds
+        kill_groups.append(_prune(list(s_ab * coef[parallel]), True))
 
     # contributions: representative face r of each form, one partner per stabiliser orbit
     contrib_line: list[int] = []
@@ -381,7 +388,7 @@ def build_plan(
                 & ~antiparallel[:, j]
                 & (m_k @ m_j > 0)
             )
-            ties = list(forms_for(int(r), j, u, w)[same_side])
+            ties = list(s * forms_for(int(r), j, u, w)[same_side])
             tie_groups.append(ties)
             # outward in-plane normals of the edges of the whole stabiliser orbit
             mm = n[members] - np.outer(cosmat[r, members], n[r])

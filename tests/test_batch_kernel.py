@@ -281,3 +281,34 @@ def test_open_plane_set_with_every_pair_line_cut_is_refused():
     n[:, 2] = np.abs(n[:, 2]) + 0.1
     with pytest.raises(OpenShapeError):
         prepare_planes(n)
+
+
+@settings(max_examples=25, deadline=None, derandomize=True)
+@given(
+    log_eps=st.floats(-15.0, -4.0),
+    sign=st.sampled_from([-1.0, 1.0]),
+    r111=st.sampled_from([SQRT3, 1.5, 3.0]),
+)
+def test_near_ties_match_hull(log_eps, sign, r111):
+    # energies a hair away from the tie gamma110 = sqrt(2) gamma100 (and, for r111 = sqrt(3),
+    # from the {111} corner tie): the result must stay continuous and agree with the hull
+    r110 = SQRT2 * (1.0 + sign * 10.0**log_eps)
+    gamma = np.array([1.0, r110, r111])[F26]
+    for planes in (PLANES26, PLAIN26):
+        batch = solve_shapes(planes, gamma[None], method="intervals")
+        assert_matches(batch, N26, gamma[None])
+
+
+@settings(max_examples=30, deadline=None, derandomize=True)
+@given(
+    phi=st.floats(0.05, 1.5),
+    log_eps=st.floats(-16.0, -3.0),
+    sign=st.sampled_from([-1.0, 1.0]),
+)
+def test_near_tie_of_an_oblique_plane_through_a_cube_edge(phi, log_eps, sign):
+    # an extra plane through (or a hair off) the cube edge x = y = 1: continuous areas,
+    # in agreement with the independent hull route (1e-9)
+    normals = np.vstack([np.eye(3), -np.eye(3), [[np.cos(phi), np.sin(phi), 0.0]]])
+    gamma = np.r_[np.ones(6), (np.cos(phi) + np.sin(phi)) * (1.0 + sign * 10.0**log_eps)]
+    batch = solve_shapes(normals, gamma[None], method="intervals")
+    assert_matches(batch, normals, gamma[None])
