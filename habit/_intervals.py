@@ -134,6 +134,11 @@ class IntervalPlan:
     estimated_forms: int = 0
 
     @property
+    def form_members(self) -> list[I64]:
+        """The planes of each orbit (form), as index arrays."""
+        return [np.nonzero(self.family == f)[0] for f in range(len(self.reps))]
+
+    @property
     def n_planes(self) -> int:
         """Number of planes N."""
         return int(self.normals.shape[0])

@@ -309,20 +309,27 @@ def _check_energies(planes: PlaneSet, energies: ArrayLike) -> NDArray[np.float64
         raise InputError(
             f"energies must be an (S, {planes.n_planes}) array (one per plane), got {g.shape}."
         )
-    bad = ~np.all(np.isfinite(g) & (g > 0), axis=1)
-    if np.any(bad):
-        raise InputError(
-            f"energy set {int(np.argmax(bad))} has a value that is not a positive finite "
-            "number; every energy must be > 0."
-        )
-    if planes.symmetric:
-        rep = g[:, planes.plan.reps[planes.plan.family]]
-        spread = np.abs(g - rep).max(axis=1) > 1e-9 * g.max(axis=1)
-        if np.any(spread):
+    plan = planes.plan
+    for start in range(0, len(g), 4096):  # blocks that stay in cache
+        block = g[start : start + 4096]
+        low, high = block.min(axis=1), block.max(axis=1)  # NaN fails both tests below
+        bad = ~((low > 0) & np.isfinite(high))
+        if np.any(bad):
             raise InputError(
-                f"energy set {int(np.argmax(spread))} differs between faces of one form; "
-                "with operations given, every face of a form needs the same energy."
+                f"energy set {start + int(np.argmax(bad))} has a value that is not a positive "
+                "finite number; every energy must be > 0."
             )
+        if planes.symmetric:
+            spread = np.zeros(len(block))
+            for members in plan.form_members:
+                sub = block[:, members]
+                np.maximum(spread, sub.max(axis=1) - sub.min(axis=1), out=spread)
+            uneven = spread > 1e-9 * high
+            if np.any(uneven):
+                raise InputError(
+                    f"energy set {start + int(np.argmax(uneven))} differs between faces of one "
+                    "form; with operations given, every face of a form needs the same energy."
+                )
     return g
 
 
@@ -355,7 +362,8 @@ def _solve_into(
         else:
             redo = np.arange(start, stop)
         for s in redo:
-            a_s, v_s, e_s = _intervals.hull_shape(plan.normals, g[s], ell is not None)
+            g_s = g[s, plan.reps[plan.family]]  # one value per orbit on every face
+            a_s, v_s, e_s = _intervals.hull_shape(plan.normals, g_s, ell is not None)
             areas[s] = a_s
             volume[s] = v_s
             if ell is not None and e_s is not None:
@@ -460,8 +468,6 @@ def solve_shapes(
         raise InputError(f"chunk must be a positive number of shapes, got {chunk}.")
     g = _check_energies(planes, energies)
     plan = planes.plan
-    if planes.symmetric:  # one value per orbit (equal within 1e-9): use it on every face
-        g = g[:, plan.reps[plan.family]]
     nshape, nplanes = g.shape
     if method == "auto":
         method = "intervals" if plan.usable and plan.cost <= _AUTO_MAX_FORMS else "hull"
@@ -499,14 +505,11 @@ def solve_shapes(
             done += len(idx)
             if progress is not None:
                 progress(done)
+    np.maximum(areas, 0.0, out=areas)
     total = areas.sum(axis=1)  # (S,)
     present = areas > tol.area * total[:, None]
-    np.maximum(areas, 0.0, out=areas)
-    nf = planes.n_forms
-    fractions = np.zeros((nshape, nf))
-    for f in range(nf):
-        fractions[:, f] = areas[:, planes.forms == f].sum(axis=1)
-    fractions /= total[:, None]
+    onehot = np.eye(planes.n_forms)[planes.forms]  # (N, F)
+    fractions = (areas @ onehot) / total[:, None]  # (S, F)
     out = [areas, volume, present, fractions, fallback]
     if ell is not None:
         out.append(ell)
