@@ -564,7 +564,12 @@ def solve_chunk(
 # --------------------------------------------------------------------------- hull route
 
 
-def hull_shape(normals: F64, energies: F64, edges: bool = True) -> tuple[F64, float, F64 | None]:
+_NEXT = np.array([1, 2, 0])
+
+
+def hull_shape(
+    normals: F64, energies: F64, edges: bool = True, cos: F64 | None = None
+) -> tuple[F64, float, F64 | None]:
     """One shape from the convex hull of the dual points ``n_i / gamma_i``.
 
     Each hull facet is a vertex of the shape (``v = -e / e0`` for the facet plane
@@ -572,6 +577,17 @@ def hull_shape(normals: F64, energies: F64, edges: bool = True) -> tuple[F64, fl
     between faces ``i`` and ``j``, running between the vertices of the two facets that
     share it. Areas then follow from the same edge sum as the interval method, which makes
     the result insensitive to how qhull triangulates facets with more than three points.
+
+    Parameters
+    ----------
+    normals : (N, 3) float array
+        Unit normals.
+    energies : (N,) float array
+        Positive central distances.
+    edges : bool
+        Also return the edge lengths.
+    cos : (N, N) float array, optional
+        ``normals @ normals.T``, when the caller has it already.
 
     Returns
     -------
@@ -582,28 +598,24 @@ def hull_shape(normals: F64, energies: F64, edges: bool = True) -> tuple[F64, fl
     from scipy.spatial import ConvexHull
 
     nplanes = len(normals)
+    if cos is None:
+        cos = normals @ normals.T  # (N, N)
     hull = ConvexHull(normals / energies[:, None])
     eq = hull.equations  # (T, 4)
     vert = -eq[:, :3] / eq[:, 3:4]  # (T, 3) shape vertices
     simp = hull.simplices  # (T, 3)
-    nb = hull.neighbors  # (T, 3)
-    t = np.repeat(np.arange(len(simp)), 3)
-    k = np.tile(np.arange(3), len(simp))
+    nb = hull.neighbors  # (T, 3): neighbour k is opposite vertex k
+    t, k = np.nonzero(nb > np.arange(len(simp))[:, None])  # each shared edge once
     t2 = nb[t, k]
-    keep = t < t2
-    t, k, t2 = t[keep], k[keep], t2[keep]
-    i = simp[t, (k + 1) % 3]
-    j = simp[t, (k + 2) % 3]
-    length = np.linalg.norm(vert[t] - vert[t2], axis=1)
-    c = np.einsum("ea,ea->e", normals[i], normals[j])
-    s = np.sqrt(np.maximum(1.0 - c * c, 1e-300))
+    i = simp[t, _NEXT[k]]
+    j = simp[t, _NEXT[_NEXT[k]]]
+    diff = vert[t] - vert[t2]
+    length = np.sqrt(np.einsum("ea,ea->e", diff, diff))
+    c = cos[i, j]
     gi, gj = energies[i], energies[j]
-    half = 0.5 * length / s
-    area: F64 = np.bincount(  # type: ignore[assignment]
-        np.concatenate([i, j]),
-        weights=np.concatenate([half * (gj - c * gi), half * (gi - c * gj)]),
-        minlength=nplanes,
-    )
+    half = 0.5 * length / np.sqrt(np.maximum(1.0 - c * c, 1e-300))
+    area: F64 = np.bincount(i, half * (gj - c * gi), nplanes)  # type: ignore[assignment]
+    area += np.bincount(j, half * (gi - c * gj), nplanes)
     volume = float(energies @ area) / 3.0
     if not edges:
         return area, volume, None

@@ -346,6 +346,7 @@ def _solve_into(
 ) -> None:
     """Fill the output arrays chunk by chunk (intervals, hull fallback per failed shape)."""
     nshape = len(g)
+    cos = plan.normals @ plan.normals.T  # (N, N), for the hull route
     pair = plan.pair_line
     has_line = pair >= 0
     gf_all = g[:, plan.reps]  # (S, F_plan)
@@ -363,7 +364,7 @@ def _solve_into(
             redo = np.arange(start, stop)
         for s in redo:
             g_s = g[s, plan.reps[plan.family]]  # one value per orbit on every face
-            a_s, v_s, e_s = _intervals.hull_shape(plan.normals, g_s, ell is not None)
+            a_s, v_s, e_s = _intervals.hull_shape(plan.normals, g_s, ell is not None, cos)
             areas[s] = a_s
             volume[s] = v_s
             if ell is not None and e_s is not None:

@@ -200,8 +200,8 @@ def test_exact_tie_110_gives_the_cube():
     # Closed-form geometry; tolerance 1e-12.
     for r111 in (SQRT3, 2.0, 10.0):
         gamma = np.array([1.0, SQRT2, r111])[F26]
-        for planes in (PLANES26, PLAIN26):
-            out = solve_shapes(planes, gamma[None], method="intervals")
+        for planes, method in ((PLANES26, "intervals"), (PLAIN26, "intervals"), (PLAIN26, "hull")):
+            out = solve_shapes(planes, gamma[None], method=method)
             assert abs(out.volume[0] - 8.0) < 1e-12
             np.testing.assert_allclose(out.areas[0][F26 == 0], 4.0, atol=1e-12)
             np.testing.assert_allclose(out.areas[0][F26 > 0], 0.0, atol=1e-12)
