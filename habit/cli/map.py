@@ -152,6 +152,6 @@ def _axis_json(label: str, spec: tuple[str, float, float], points: int) -> dict[
 
 
 def _name(planes: object, mask: int) -> str:
-    from habit.batch import _region_name
+    from habit._solve import _region_name
 
     return _region_name(planes, int(mask))  # type: ignore[arg-type]
