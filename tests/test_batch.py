@@ -381,8 +381,10 @@ def test_batch_killed_with_sigkill_restarts_without_recomputing(tmp_path):
         ((4.91, 4.91, 5.41, 90, 90, 120), "32", ["10-10", "10-11", "01-11", "0001"]),
         ((4.76, 4.76, 12.99, 90, 90, 120), "-3m", ["10-10", "10-14", "0001", "01-12"]),
         ((5.68, 15.2, 6.29, 90, 114.1, 90), "2/m", ["010", "110", "-111", "001", "100"]),
+        ((5.0, 5.0, 5.0, 90, 90, 90), "-43m", ["111", "-1-1-1", "100"]),
+        ((3.25, 3.25, 5.21, 90, 90, 120), "6mm", ["10-10", "10-11", "10-1-1", "0001", "000-1"]),
     ],
-    ids=["trigonal-32", "trigonal--3m", "monoclinic-2/m"],
+    ids=["trigonal-32", "trigonal--3m", "monoclinic-2/m", "cubic--43m", "hexagonal-6mm"],
 )
 def test_crystal_plane_sets_match_an_independent_hull(cell, klass, forms):
     # the point group's operations, turned Cartesian on an oblique cell, must reduce the work
