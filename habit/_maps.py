@@ -233,6 +233,7 @@ def shape_map(
         planes=planes,
         n_fallback=n_fallback,
     )
-    for arr in (xs, ys, regions, computed, points, g0):
+    for arr in (out.x, out.y, out.regions, out.computed, out.points, out.point_regions,
+                out.point_fractions, out.point_volume, out.base):  # fmt: skip
         arr.setflags(write=False)
     return out

@@ -306,4 +306,8 @@ def sample_shapes(
         n_dropped=int(n_dropped),
         n_fallback=int(n_fallback),
     )
+    for name in ("values", "form_fractions", "volume", "present", "p_present",
+                 "p_present_interval", "fraction_mean", "fraction_sd", "fraction_interval",
+                 "volume_interval"):  # fmt: skip
+        getattr(out, name).setflags(write=False)
     return out

@@ -405,3 +405,17 @@ def test_crystal_plane_sets_match_an_independent_hull(cell, klass, forms):
         hs = np.hstack([planes.normals, -gamma[:, None]])
         verts = HalfspaceIntersection(hs, np.zeros(3)).intersections
         assert abs(out.volume[s] - ConvexHull(verts).volume) <= 1e-9 * out.volume[s]
+
+
+def test_results_are_frozen():
+    import dataclasses
+
+    s = sample_shapes(CUBE_OCTA, [1.0, 1.2], [0.05, 0.05], n=50, rng=0)
+    m = shape_map(CUBE_OCTA, [1.0, 1.0], x=("111", 0.5, 2.0), y=("100", 0.9, 1.1), size=3,
+                  levels=1)  # fmt: skip
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        s.level = 0.5  # type: ignore[misc]
+    with pytest.raises(ValueError, match="read-only"):
+        s.volume[0] = 1.0
+    with pytest.raises(ValueError, match="read-only"):
+        m.regions[0, 0] = 7
