@@ -14,7 +14,7 @@ Archimedean ones and are not listed here.
 from __future__ import annotations
 
 import itertools
-from functools import lru_cache
+from functools import cache
 from typing import Any
 
 import numpy as np
@@ -188,7 +188,7 @@ def _snub(group: np.ndarray, axes: list[tuple[np.ndarray, int]], start: np.ndarr
     return _unique(np.einsum("gij,j->gi", group, p))
 
 
-@lru_cache(maxsize=None)
+@cache
 def _snub_cube() -> np.ndarray:
     cube = _signs((1.0, 1.0, 1.0))
     group = _rotation_group(cube, 2.0)  # 24 rotations
@@ -200,7 +200,7 @@ def _snub_cube() -> np.ndarray:
     return _snub(group, [(ax4, 4), (ax3, 3), (ax2, 2)], start / np.linalg.norm(start))
 
 
-@lru_cache(maxsize=None)
+@cache
 def _snub_dodecahedron() -> np.ndarray:
     ico = _icosahedron()
     group = _rotation_group(ico, 2.0)  # 60 rotations
@@ -234,12 +234,12 @@ def _is_equilateral(pts: np.ndarray) -> bool:
     return bool(len(h.points) == len(pts) and np.ptp(lengths) < 1e-9 * lengths.max())
 
 
-@lru_cache(maxsize=None)
+@cache
 def _icosahedron() -> np.ndarray:
     return _cyclic(_signs((0.0, 1.0, PHI)))
 
 
-@lru_cache(maxsize=None)
+@cache
 def _dodecahedron() -> np.ndarray:
     return np.vstack([_signs((1.0, 1.0, 1.0)), _cyclic(_signs((0.0, 1.0 / PHI, PHI)))])
 
@@ -277,9 +277,7 @@ def _coordinates(name: str) -> np.ndarray:
     if name == "snub cube":
         return _snub_cube()
     if name == "icosidodecahedron":
-        return np.vstack(
-            [_cyclic(_signs((0.0, 0.0, p))), _cyclic(_signs((0.5, p / 2, p * p / 2)))]
-        )
+        return np.vstack([_cyclic(_signs((0.0, 0.0, p))), _cyclic(_signs((0.5, p / 2, p * p / 2)))])
     if name == "truncated dodecahedron":
         return np.vstack(
             [
