@@ -447,7 +447,7 @@ def _candidate_rows(prob: _Problem, x: np.ndarray, rho: float) -> list[np.ndarra
 
 
 def _reduced(prob: _Problem, x: np.ndarray) -> np.ndarray:
-    """Same lattice (and coset), LLL-reduced basis with positive determinant; no rescaling."""
+    """Return the same lattice (and coset) with an LLL-reduced, right-handed basis."""
     b, t = prob.split(x)
     b, _ = lll_reduce(b)
     if np.linalg.det(b) < 0:

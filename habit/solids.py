@@ -125,7 +125,7 @@ def _signs(base: tuple[float, ...]) -> np.ndarray:
 
 
 def _cyclic(pts: np.ndarray) -> np.ndarray:
-    """The three cyclic permutations of the coordinates of each point."""
+    """Return the three cyclic permutations of the coordinates of each point."""
     return np.vstack([pts, pts[:, [1, 2, 0]], pts[:, [2, 0, 1]]])
 
 
