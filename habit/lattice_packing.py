@@ -64,7 +64,12 @@ class Body:
     vertices : (n, 3) float array
         Hull vertices of ``K``, centred at the centroid, scaled.
     scale : float
-        Factor applied to the input coordinates (after centring).
+        Overall length factor applied to the input coordinates (after centring).
+    transform : (3, 3) float array
+        Linear map ``T`` (determinant ``scale**3``) taking centred input coordinates to the
+        working frame: ``working = T @ (input - centroid)``. It whitens the vertex
+        covariance (densities are affine invariant, Minkowski 1904) and scales ``D`` to
+        circumradius 1.
     centroid : (3,) float array
         Centroid of the input solid (input units).
     volume : float
@@ -99,6 +104,7 @@ class Body:
     offsets: FloatArray
     edges: IntArray
     centrally_symmetric: bool
+    transform: FloatArray
 
 
 def _centroid(h: object) -> np.ndarray:
@@ -122,6 +128,10 @@ def make_body(vertices: np.ndarray) -> Body:
     h = hull_facets(vertices)
     c = _centroid(h)
     pts = h.points - c
+    # affine normalisation (density is affine invariant): whiten the vertex covariance so
+    # that sheared or flattened input is as well conditioned as the regular solid
+    w = _whitening(pts)
+    pts = pts @ w.T
     diff = (pts[:, None, :] - pts[None, :, :]).reshape(-1, 3)  # (n*n, 3)
     rad = float(np.max(np.linalg.norm(diff, axis=1)))
     if rad <= 0:
@@ -130,24 +140,34 @@ def make_body(vertices: np.ndarray) -> Body:
     pts = pts * s
     hd = hull_facets(diff * s)
     a = hd.normals / hd.offsets[:, None]
-    offsets = h.offsets - h.normals @ c
-    offsets = offsets * s
-    e = h.normals / (2.0 * offsets[:, None])
+    hk = hull_facets(pts)
+    normals = hk.normals
+    offsets = hk.offsets
+    e = normals / (2.0 * offsets[:, None])
     sym = _is_symmetric(pts)
     return Body(
-        vertices=pts,
+        vertices=hk.points,
         scale=s,
         centroid=c,
-        volume=h.volume * s**3,
+        volume=hk.volume,
         facets_d=a,
         volume_d=hd.volume,
         facets_2k=e,
         radius_2k=float(2.0 * np.max(np.linalg.norm(pts, axis=1))),
-        normals=h.normals.copy(),
+        normals=normals,
         offsets=offsets,
-        edges=h.edges,
+        edges=hk.edges,
+        transform=w * s,
         centrally_symmetric=sym,
     )
+
+
+def _whitening(pts: np.ndarray) -> np.ndarray:
+    """Symmetric ``W`` with ``cov(pts @ W.T)`` proportional to the identity (unit determinant)."""
+    cov = np.cov(pts.T)
+    ev, vec = np.linalg.eigh(cov)
+    w = vec @ np.diag(ev**-0.5) @ vec.T
+    return np.asarray(w / np.cbrt(np.linalg.det(w)))
 
 
 def _is_symmetric(pts: np.ndarray) -> bool:

@@ -347,7 +347,7 @@ def densest_lattice_packing(
         hits_needed=3,
         progress=progress,
     )
-    b = out.x[:9].reshape(3, 3) / body.scale  # columns, Å
+    b = np.linalg.solve(body.transform, out.x[:9].reshape(3, 3))  # columns, Å
     basis = b.T.copy()
     opt = out.optimality
     if opt is None:  # pragma: no cover - the search always returns its evidence
@@ -356,7 +356,7 @@ def densest_lattice_packing(
     z_all = np.vstack([zc, -zc])
     contacts = z_all @ basis
     mk = _lp.minkowski_configuration(zc) if len(zc) else None
-    vol = body.volume / body.scale**3
+    vol = body.volume / abs(np.linalg.det(body.transform))
     cell = float(abs(np.linalg.det(basis)))
     density = vol / cell
     sep = packing_overlap(v, basis)
@@ -440,15 +440,15 @@ def densest_double_lattice_packing(
         hits_needed=3,
         progress=progress,
     )
-    b = out.x[:9].reshape(3, 3) / body.scale
-    t = out.x[9:12] / body.scale
+    b = np.linalg.solve(body.transform, out.x[:9].reshape(3, 3))
+    t = np.linalg.solve(body.transform, out.x[9:12])
     basis = b.T.copy()
     opt = out.optimality
     if opt is None:  # pragma: no cover - the search always returns its evidence
         raise PackingError("the search returned no optimality evidence.")
     lat = opt.contacts[opt.contacts[:, 3] == 0, :3].astype(np.int64)
     cos = opt.contacts[opt.contacts[:, 3] == 1, :3].astype(np.int64)
-    vol = body.volume / body.scale**3
+    vol = body.volume / abs(np.linalg.det(body.transform))
     cell = float(abs(np.linalg.det(basis)))
     density = 2.0 * vol / cell
     sep = packing_overlap(v, basis, shift=t)
