@@ -542,10 +542,22 @@ _FAST_LP = True
 
 
 def _solve_lp_core(
-    c: np.ndarray, a_ub: np.ndarray, b_ub: np.ndarray, rho: float
+    c: np.ndarray,
+    a_ub: np.ndarray,
+    b_ub: np.ndarray,
+    rho: float,
+    a_eq: np.ndarray | None = None,
+    b_eq: np.ndarray | None = None,
+    centre: np.ndarray | None = None,
 ) -> np.ndarray | None:
     from scipy.optimize._highspy import _core as h
 
+    lower = np.full(len(a_ub), -np.inf)
+    upper = np.asarray(b_ub, dtype=np.float64)
+    if a_eq is not None and b_eq is not None and len(a_eq):
+        a_ub = np.vstack([a_ub, a_eq])
+        lower = np.concatenate([lower, b_eq])
+        upper = np.concatenate([upper, b_eq])
     m, n = a_ub.shape
     lp = h.HighsLp()
     lp.num_col_ = n
@@ -554,10 +566,11 @@ def _solve_lp_core(
     lp.a_matrix_.num_row_ = m
     lp.a_matrix_.format_ = h.MatrixFormat.kColwise
     lp.col_cost_ = np.ascontiguousarray(c, dtype=np.float64)
-    lp.col_lower_ = np.full(n, -rho)
-    lp.col_upper_ = np.full(n, rho)
-    lp.row_lower_ = np.full(m, -np.inf)
-    lp.row_upper_ = np.ascontiguousarray(b_ub, dtype=np.float64)
+    mid = np.zeros(n) if centre is None else centre
+    lp.col_lower_ = mid - rho
+    lp.col_upper_ = mid + rho
+    lp.row_lower_ = np.ascontiguousarray(lower)
+    lp.row_upper_ = np.ascontiguousarray(upper)
     lp.a_matrix_.start_ = np.arange(0, m * n + 1, m, dtype=np.int32)
     lp.a_matrix_.index_ = np.tile(np.arange(m, dtype=np.int32), n)
     lp.a_matrix_.value_ = np.ascontiguousarray(a_ub.T, dtype=np.float64).ravel()
@@ -654,6 +667,19 @@ class Optimality:
     second_order: bool
 
 
+def _reduced_min_eig(strong: np.ndarray, h: np.ndarray, dim: int) -> float:
+    """Smallest eigenvalue of ``h`` on the null space of ``strong`` (inf if that is {0})."""
+    if len(strong):
+        _, sv, vt = np.linalg.svd(strong)
+        rk = int(np.sum(sv > 1e-9 * sv[0]))
+        null = vt[rk:].T
+    else:
+        null = np.eye(dim)
+    if null.shape[1] == 0:
+        return float("inf")
+    return float(np.linalg.eigvalsh(null.T @ h @ null).min())
+
+
 def _multiplier_support(rows: np.ndarray, g: np.ndarray, lam: np.ndarray) -> np.ndarray:
     """Rows that carry a positive multiplier in some solution of ``rows.T @ lam = g, lam >= 0``.
 
@@ -665,15 +691,29 @@ def _multiplier_support(rows: np.ndarray, g: np.ndarray, lam: np.ndarray) -> np.
     for i in np.nonzero(~support)[0]:
         cost = np.zeros(len(rows))
         cost[i] = -1.0
-        res = linprog(
-            cost, A_eq=rows.T, b_eq=g, bounds=[(0, 10 * gn + 1)] * len(rows), method="highs"
+        box = 5.0 * gn + 0.5  # lam in [0, 10 |g| + 1]
+        sol = _solve_lp_core(
+            cost,
+            np.zeros((0, len(rows))),
+            np.zeros(0),
+            box,
+            rows.T,
+            g,
+            centre=np.full(len(rows), box),
         )
-        if res.status == 0 and res.x[i] > 1e-8 * gn:
+        if sol is not None and sol[i] > 1e-8 * gn:
             support[i] = True
     return np.asarray(support)
 
 
-def _optimality(prob: _Problem, x: np.ndarray, max_choices: int = 512) -> Optimality:
+def _optimality(prob: _Problem, x: np.ndarray, max_choices: int = 128) -> Optimality:
+    """First- and second-order optimality conditions at ``x`` for every facet choice.
+
+    For a tiling (density 1) the second-order test is skipped: such a lattice is optimal by
+    volume, and its optima form continua (degenerate Hessian).
+    """
+    factor = 2.0 if prob.double else 1.0
+    tiling = factor * prob.body.volume / prob.det(x) >= 1.0 - 1e-12
     act = _active(prob, x, 1e-9)
     g = prob.grad(x)
     gn = float(np.linalg.norm(g))
@@ -698,27 +738,22 @@ def _optimality(prob: _Problem, x: np.ndarray, max_choices: int = 512) -> Optima
             continue
         lam, res = nnls(rows.T, g, maxiter=2000)
         worst_res = max(worst_res, res / gn)
-        support = _multiplier_support(rows, g, lam)
-        if support.any():
-            min_lam = (
-                min(min_lam, float(lam[lam > 1e-8 * gn].min() / gn))
-                if (lam > 1e-8 * gn).any()
-                else min_lam
-            )
+        if (lam > 1e-8 * gn).any():
+            min_lam = min(min_lam, float(lam[lam > 1e-8 * gn].min() / gn))
         # second order: Hessian of det on the directions keeping every contact that can
-        # carry a positive multiplier on its facet (the critical cone's linear part)
-        strong = rows[support]
-        if len(strong):
-            _, sv, vt = np.linalg.svd(strong)
-            rk = int(np.sum(sv > 1e-9 * sv[0]))
-            null = vt[rk:].T
-        else:
-            null = np.eye(prob.dim)
-        if null.shape[1]:
-            ev = float(np.linalg.eigvalsh(null.T @ h @ null).min() / abs(det))
-            min_eig = min(min_eig, ev)
-            if ev <= 1e-9:
-                second = False
+        # carry a positive multiplier on its facet (the critical cone's linear part). Try
+        # the support of the NNLS multipliers first (a larger subspace: positive definite
+        # there suffices); only if that fails find the union of all supports by LP.
+        if tiling:
+            second = False
+            continue
+        ev = _reduced_min_eig(rows[lam > 1e-8 * gn], h, prob.dim) / abs(det)
+        if ev <= 1e-9:
+            support = _multiplier_support(rows, g, lam)
+            ev = _reduced_min_eig(rows[support], h, prob.dim) / abs(det)
+        min_eig = min(min_eig, ev)
+        if ev <= 1e-9:
+            second = False
     first = bool(worst_res < 1e-8)
     return Optimality(
         contacts=contacts,
@@ -845,6 +880,131 @@ def search_double_lattice(
         hits_needed=hits_needed,
         progress=progress,
         factor=2.0,
+    )
+
+
+# ---------------------------------------------------------------------------------------
+# tightness: the optimum against its own contact family (Betke & Henk 2000, step of Alg. A)
+
+
+@dataclass(frozen=True)
+class Tightness:
+    """Result of minimising ``det`` over the family of lattices sharing a contact pattern.
+
+    The family: every basis ``B`` for which the given lattice vectors ``B z_k`` lie on the
+    same facets of ``D`` as at the optimum (``a_{j_k} . B z_k = 1``) and inside ``D``; all other
+    lattice vectors are ignored. If no member has a smaller determinant, the optimum is
+    *tight* for this configuration.
+    """
+
+    points: int  # number of contact vectors defining the family
+    family_dimension: int  # 9 - rank of the facet equations
+    starts: int
+    best_det_ratio: float  # smallest det found in the family / det of the optimum
+    tight: bool
+
+
+def family_tightness(
+    body: Body,
+    basis: np.ndarray,
+    z: np.ndarray,
+    *,
+    rng: np.random.Generator,
+    starts: int = 8,
+) -> Tightness:
+    """Minimise ``det`` over the contact family of ``z`` (columns basis, working frame)."""
+    a = body.facets_d
+    b0 = np.array(basis, dtype=np.float64)
+    det0 = float(np.linalg.det(b0))
+    sign = 1.0 if det0 > 0 else -1.0
+    p = z @ b0.T  # (k, 3)
+    vals = p @ a.T  # (k, F)
+    jk = np.argmax(vals, axis=1)
+    eq = (a[jk][:, :, None] * z[:, None, :]).reshape(len(z), 9)  # (k, 9)
+    ineq = (a[None, :, :, None] * z[:, None, None, :]).reshape(-1, 9)  # (k*F, 9)
+    rank = int(np.linalg.matrix_rank(eq, tol=1e-9))
+    x0 = b0.ravel()
+    floor_det = body.volume_d / 8.0  # Minkowski's convex body theorem
+
+    def det(x: np.ndarray) -> float:
+        return sign * float(np.linalg.det(x.reshape(3, 3)))
+
+    def grad(x: np.ndarray) -> np.ndarray:
+        m = x.reshape(3, 3)
+        return sign * (np.linalg.det(m) * np.linalg.inv(m).T).ravel()
+
+    eq_ind = _independent_rows(eq)
+
+    def newton(x: np.ndarray) -> np.ndarray | None:
+        """Critical point of det on the affine family (inequalities ignored), if near."""
+        r = len(eq_ind)
+        mu = np.linalg.lstsq(eq_ind.T, grad(x), rcond=None)[0]
+        for _ in range(20):
+            m = np.linalg.inv(x.reshape(3, 3))
+            dd = np.linalg.det(x.reshape(3, 3))
+            h = sign * dd * (np.einsum("ki,lj->ikjl", m, m) - np.einsum("kj,li->ikjl", m, m))
+            jac = np.block([[h.reshape(9, 9), -eq_ind.T], [eq_ind, np.zeros((r, r))]])
+            f = np.concatenate([grad(x) - eq_ind.T @ mu, eq_ind @ x - 1.0])
+            step = np.linalg.lstsq(jac, -f, rcond=None)[0]
+            x, mu = x + step[:9], mu + step[9:]
+            if np.max(np.abs(step)) < 1e-14:
+                break
+        if not np.all(np.isfinite(x)) or np.max(ineq @ x) > 1.0 + 1e-9:
+            return None
+        return x
+
+    def descend(x: np.ndarray) -> float:
+        rho = 0.05
+        d = det(x)
+        for it in range(300):
+            if it % 10 == 9:
+                xn = newton(x)
+                if xn is not None and 0 < det(xn) <= d:
+                    return det(xn)
+            if d <= 0.5 * floor_det or d < target * (1 - 1e-7):
+                return d  # below the optimum (not tight), or collapsing to a flat lattice
+            if d <= target * (1 + 1e-9):
+                return d  # reached the optimum's value
+            g = grad(x)
+            dx = _solve_lp_core(g, ineq, 1.0 - ineq @ x, rho, eq, np.zeros(len(eq)))
+            if dx is None:
+                rho *= 0.3
+                if rho < 1e-10:
+                    break
+                continue
+            pred = -float(g @ dx)
+            if pred < 1e-12 * d:
+                break
+            dn = det(x + dx)
+            if d - dn >= 0.1 * pred:
+                x, d = x + dx, dn
+                rho = min(2 * rho, 0.2)
+            else:
+                rho *= 0.3
+                if rho < 1e-10:
+                    break
+        return d
+
+    target = abs(det0)
+    best = descend(x0.copy())
+    done = 1
+    for _ in range(max(starts - 1, 0)):
+        # a vertex of the family polytope in a random direction, within a box around x0
+        c = rng.normal(size=9)
+        xs = _solve_lp_core(c, ineq, np.ones(len(ineq)), 2.0, eq, np.ones(len(eq)), centre=x0)
+        if xs is None or det(xs) <= 0:
+            continue
+        best = min(best, descend(xs))
+        done += 1
+        if best < target * (1 - 1e-7):
+            break
+    ratio = best / abs(det0)
+    return Tightness(
+        points=len(z),
+        family_dimension=9 - rank,
+        starts=done,
+        best_det_ratio=float(ratio),
+        tight=bool(ratio >= 1.0 - 1e-7),
     )
 
 

@@ -102,6 +102,18 @@ class PackingCertificate:
     minkowski_basis : (3, 3) int array or None
         Rows: lattice coordinates (in :attr:`LatticePacking.basis`) of the three basis vectors
         of that pattern.
+    configuration : str or None
+        The contact configuration whose family was used for the tightness test:
+        ``"Minkowski (i), 6 points"`` or ``"all k contacts"`` (lattice packings only).
+    tight : bool or None
+        No lattice in that family has a smaller determinant, other lattice vectors ignored
+        (multistart minimisation in the family; the step of Betke & Henk's algorithm that
+        decides whether a configuration yields the optimum).
+    family_dimension : int or None
+        Dimension of the family (9 minus the rank of its facet equations).
+    family_best_ratio : float or None
+        Smallest determinant found in the family divided by that of the optimum (>= 1 - 1e-7
+        means tight).
     """
 
     method: str
@@ -120,6 +132,10 @@ class PackingCertificate:
     space_filling: bool
     minkowski_type: str | None
     minkowski_basis: IntArray | None
+    configuration: str | None = None
+    tight: bool | None = None
+    family_dimension: int | None = None
+    family_best_ratio: float | None = None
 
     @property
     def is_certified(self) -> bool:
@@ -128,7 +144,8 @@ class PackingCertificate:
             return False
         if self.space_filling:
             return True
-        return self.first_order and self.second_order and self.hits >= 2
+        locally = self.first_order and self.second_order and self.hits >= 2
+        return locally and self.tight is not False
 
     def summary(self) -> str:
         """One line saying how the result was established."""
@@ -142,7 +159,10 @@ class PackingCertificate:
         else:
             why = f"not shown locally optimal; best of {self.starts} starts"
         adm = "admissible" if self.admissible else "NOT admissible"
-        return f"{why}; {adm} (min gauge {self.min_gauge:.12f})"
+        tight = ""
+        if self.tight is not None:
+            tight = f"; {'tight' if self.tight else 'NOT tight'} for {self.configuration}"
+        return f"{why}{tight}; {adm} (min gauge {self.min_gauge:.12f})"
 
 
 def _readonly(a: ArrayLike, dtype: Any = np.float64) -> Any:
@@ -287,11 +307,37 @@ def _diameter(v: np.ndarray) -> float:
 # ---------------------------------------------------------------------------------------
 # public searches
 
+_PATTERNS = {
+    "i": np.array([[1, 0, 0], [0, 1, 0], [0, 0, 1], [1, 1, 0], [0, 1, 1], [1, 1, 1]]),
+    "ii": np.array([[1, 0, 0], [0, 1, 0], [0, 0, 1], [1, 1, 0], [1, 0, 1], [0, 1, 1]]),
+}
+
+
+def _tightness(
+    body: _lp.Body,
+    basis_cols: np.ndarray,
+    contacts: np.ndarray,
+    mk: tuple[str, np.ndarray] | None,
+    rng: np.random.Generator,
+) -> tuple[str | None, _lp.Tightness | None]:
+    """Test the Minkowski six-point family, then (if not tight) the family of all contacts."""
+    if len(contacts) < 3:
+        return None, None
+    if mk is not None:
+        z6 = (_PATTERNS[mk[0]] @ mk[1].T).astype(np.float64)
+        t6 = _lp.family_tightness(body, basis_cols, z6, rng=rng, starts=5)
+        if t6.tight:
+            return f"Minkowski ({mk[0]}), 6 points", t6
+    ta = _lp.family_tightness(
+        body, basis_cols, np.asarray(contacts, dtype=np.float64), rng=rng, starts=5
+    )
+    return f"all {len(contacts)} contacts", ta
+
 
 def densest_lattice_packing(
     solid: Any,
     *,
-    starts: int = 40,
+    starts: int = 30,
     max_starts: int = 200,
     rng: int | np.random.Generator | None = 0,
     progress: ProgressFn | None = None,
@@ -360,6 +406,10 @@ def densest_lattice_packing(
     cell = float(abs(np.linalg.det(basis)))
     density = vol / cell
     sep = packing_overlap(v, basis)
+    if density >= 1.0 - 1e-12:
+        config, tight = None, None  # a tiling: optimal by volume, no family test needed
+    else:
+        config, tight = _tightness(body, out.x[:9].reshape(3, 3), zc, mk, _rng(rng))
     cert = PackingCertificate(
         method="multistart SLP + Newton",
         starts=out.starts,
@@ -377,6 +427,10 @@ def densest_lattice_packing(
         space_filling=bool(density >= 1.0 - 1e-12),
         minkowski_type=None if mk is None else mk[0],
         minkowski_basis=None if mk is None else _readonly(mk[1].T, np.int64),
+        configuration=config,
+        tight=None if tight is None else tight.tight,
+        family_dimension=None if tight is None else tight.family_dimension,
+        family_best_ratio=None if tight is None else tight.best_det_ratio,
     )
     if not cert.admissible:  # pragma: no cover - guarded by the search
         raise PackingError("the best lattice found overlaps; rerun with more starts.")
