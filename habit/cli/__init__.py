@@ -19,6 +19,12 @@ __all__ = ["main", "COMMANDS"]
 COMMANDS: dict[str, tuple[str, str]] = {
     "forms": ("habit.cli.forms", "List the faces of a form {hkl}, its multiplicity and name."),
     "angles": ("habit.cli.angles", "Interfacial angles between faces (degrees and minutes)."),
+    "crystal": ("habit.cli.crystal", "Describe a crystal; show its conventional setting."),
+    "apf": ("habit.cli.apf", "Atomic packing fraction of a structure, per site."),
+    "wulff": ("habit.cli.wulff", "Wulff shape, kinetic shape or habit drawing, with its form table."),
+    "demo": ("habit.cli.demo", "Run the main job on the bundled (invented) demo crystal."),
+    "dual": ("habit.cli.dual", "Dual polyhedron by polar reciprocation."),
+    "pack": ("habit.cli.pack", "Densest lattice (and double-lattice) packing of a shape."),
 }
 
 

@@ -114,3 +114,113 @@ def deg_min(angle_deg: float) -> str:
     degrees = int(total_min // 60)
     minutes = total_min - 60 * degrees
     return f"{sign}{degrees}°{minutes:04.1f}′"
+
+
+class MillerType(click.ParamType):
+    """A face or form typed as people write it: ``111``, ``1 0 -1 1``, ``(10-11)``, ``{100}``."""
+
+    name = "HKL"
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> Any:
+        if isinstance(value, tuple):
+            return value
+        from habit.errors import InvalidMillerIndexError
+        from habit.miller import parse_hkl
+
+        try:
+            return parse_hkl(str(value))
+        except InvalidMillerIndexError as exc:
+            self.fail(str(exc), param, ctx)
+
+
+def crystal_options(func: Callable[..., Any]) -> Callable[..., Any]:
+    """Add ``--cell``, ``--class`` and ``--space-group`` (a crystal given inline)."""
+    func = click.option(
+        "--space-group",
+        "space_group",
+        metavar="SYMBOL|NUMBER",
+        default=None,
+        help="Space group of an inline cell, e.g. 'Fm-3m' or 225.",
+    )(func)
+    func = click.option(
+        "--class",
+        "crystal_class",
+        metavar="SYMBOL",
+        default=None,
+        help="Crystal class (Hermann–Mauguin) of an inline cell, e.g. 'm-3m', '-3m', '2/m'.",
+    )(func)
+    func = click.option(
+        "--cell",
+        metavar="A,B,C,ALPHA,BETA,GAMMA",
+        default=None,
+        help="Give the crystal inline: edges in Å, angles in degrees "
+        "(with --class or --space-group; then CRYSTAL is left out).",
+    )(func)
+    return func
+
+
+def resolve_crystal(
+    args: tuple[str, ...],
+    cell: str | None,
+    crystal_class: str | None,
+    space_group: str | None,
+) -> tuple[Any, tuple[str, ...]]:
+    """Split ``(CRYSTAL, rest...)`` or use an inline cell; return the crystal and the rest."""
+    from habit.crystal import Crystal, load_crystal
+    from habit.errors import CellError, InputError
+
+    if cell is None:
+        if crystal_class or space_group:
+            raise InputError("--class and --space-group need --cell A,B,C,ALPHA,BETA,GAMMA.")
+        if not args:
+            raise InputError("name a crystal (a CIF, a crystal TOML or a bundled name).")
+        return load_crystal(args[0]), tuple(args[1:])
+    parts = [p for p in cell.replace(";", ",").split(",") if p.strip()]
+    try:
+        values = [float(p) for p in parts]
+    except ValueError:
+        raise CellError(f"--cell takes six numbers A,B,C,ALPHA,BETA,GAMMA; got {cell!r}.") from None
+    if len(values) != 6:
+        raise CellError(
+            f"--cell takes six numbers A,B,C,ALPHA,BETA,GAMMA (Å, degrees); got {len(values)}."
+        )
+    sg: str | int | None = space_group
+    if space_group is not None and space_group.strip().isdigit():
+        sg = int(space_group)
+    crystal = Crystal.from_cell(
+        *values, crystal_class=crystal_class, space_group=sg, name="inline cell"
+    )
+    return crystal, tuple(args)
+
+
+def parse_faces(crystal: Any, texts: tuple[str, ...]) -> list[tuple[int, int, int]]:
+    """Parse face arguments for a crystal, raising one clear error for the first bad one."""
+    return [crystal.parse_face(t) for t in texts]
+
+
+def crystal_header(crystal: Any) -> str:
+    """One line naming a crystal, its class and cell."""
+    a, b, c, al, be, ga = crystal.cell
+    sg = f", space group {crystal.space_group.symbol}" if crystal.space_group is not None else ""
+    return (
+        f"{crystal.name or 'crystal'}: class {crystal.point_group.symbol} "
+        f"({crystal.system}{sg}); a = {a:.4f} Å, b = {b:.4f} Å, c = {c:.4f} Å, "
+        f"α = {al:.3f}°, β = {be:.3f}°, γ = {ga:.3f}°"
+    )
+
+
+def crystal_json(crystal: Any) -> dict[str, Any]:
+    """The stable JSON description of a crystal."""
+    a, b, c, al, be, ga = crystal.cell
+    return {
+        "name": crystal.name,
+        "crystal_class": crystal.point_group.symbol,
+        "system": crystal.system,
+        "space_group": None if crystal.space_group is None else crystal.space_group.symbol,
+        "space_group_number": None
+        if crystal.space_group is None
+        else int(crystal.space_group.number),
+        "setting": crystal.setting,
+        "cell": {"a_A": a, "b_A": b, "c_A": c, "alpha_deg": al, "beta_deg": be, "gamma_deg": ga},
+        "source": crystal.source,
+    }
