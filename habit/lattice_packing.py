@@ -902,6 +902,7 @@ class Tightness:
     starts: int
     best_det_ratio: float  # smallest det found in the family / det of the optimum
     tight: bool
+    best_basis: np.ndarray = field(repr=False, default_factory=lambda: np.eye(3))
 
 
 def family_tightness(
@@ -911,15 +912,21 @@ def family_tightness(
     *,
     rng: np.random.Generator,
     starts: int = 8,
+    facets: np.ndarray | None = None,
+    target: float | None = None,
 ) -> Tightness:
-    """Minimise ``det`` over the contact family of ``z`` (columns basis, working frame)."""
+    """Minimise ``det`` over the contact family of ``z`` (columns basis, working frame).
+
+    ``facets`` fixes the facet of each ``z`` (default: the facet each lies on at ``basis``);
+    ``target`` is the value to beat (default ``|det basis|``): descent stops below it.
+    """
     a = body.facets_d
     b0 = np.array(basis, dtype=np.float64)
     det0 = float(np.linalg.det(b0))
     sign = 1.0 if det0 > 0 else -1.0
     p = z @ b0.T  # (k, 3)
     vals = p @ a.T  # (k, F)
-    jk = np.argmax(vals, axis=1)
+    jk = np.argmax(vals, axis=1) if facets is None else np.asarray(facets)
     eq = (a[jk][:, :, None] * z[:, None, :]).reshape(len(z), 9)  # (k, 9)
     ineq = (a[None, :, :, None] * z[:, None, None, :]).reshape(-1, 9)  # (k*F, 9)
     rank = int(np.linalg.matrix_rank(eq, tol=1e-9))
@@ -953,18 +960,18 @@ def family_tightness(
             return None
         return x
 
-    def descend(x: np.ndarray) -> float:
+    def descend(x: np.ndarray) -> tuple[float, np.ndarray]:
         rho = 0.05
         d = det(x)
         for it in range(300):
             if it % 10 == 9:
                 xn = newton(x)
                 if xn is not None and 0 < det(xn) <= d:
-                    return det(xn)
+                    return det(xn), xn
             if d <= 0.5 * floor_det or d < target * (1 - 1e-7):
-                return d  # below the optimum (not tight), or collapsing to a flat lattice
+                return d, x  # below the optimum (not tight), or collapsing to a flat lattice
             if d <= target * (1 + 1e-9):
-                return d  # reached the optimum's value
+                return d, x  # reached the optimum's value
             g = grad(x)
             dx = _solve_lp_core(g, ineq, 1.0 - ineq @ x, rho, eq, np.zeros(len(eq)))
             if dx is None:
@@ -983,10 +990,10 @@ def family_tightness(
                 rho *= 0.3
                 if rho < 1e-10:
                     break
-        return d
+        return d, x
 
-    target = abs(det0)
-    best = descend(x0.copy())
+    target = abs(det0) if target is None else float(target)
+    best, best_x = descend(x0.copy())
     done = 1
     for _ in range(max(starts - 1, 0)):
         # a vertex of the family polytope in a random direction, within a box around x0
@@ -994,7 +1001,9 @@ def family_tightness(
         xs = _solve_lp_core(c, ineq, np.ones(len(ineq)), 2.0, eq, np.ones(len(eq)), centre=x0)
         if xs is None or det(xs) <= 0:
             continue
-        best = min(best, descend(xs))
+        val, xv = descend(xs)
+        if val < best:
+            best, best_x = val, xv
         done += 1
         if best < target * (1 - 1e-7):
             break
@@ -1004,7 +1013,8 @@ def family_tightness(
         family_dimension=9 - rank,
         starts=done,
         best_det_ratio=float(ratio),
-        tight=bool(ratio >= 1.0 - 1e-7),
+        tight=bool(best >= target * (1.0 - 1e-7)),
+        best_basis=best_x.reshape(3, 3),
     )
 
 

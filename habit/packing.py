@@ -114,6 +114,12 @@ class PackingCertificate:
     family_best_ratio : float or None
         Smallest determinant found in the family divided by that of the optimum (>= 1 - 1e-7
         means tight).
+    enumeration : str or None
+        Summary of the Minkowski-configuration enumeration, when it was run
+        (``check_configurations=True``).
+    enumeration_confirms : bool or None
+        Every configuration family was resolved against the result and none gave a denser
+        packing lattice.
     """
 
     method: str
@@ -136,11 +142,15 @@ class PackingCertificate:
     tight: bool | None = None
     family_dimension: int | None = None
     family_best_ratio: float | None = None
+    enumeration: str | None = None
+    enumeration_confirms: bool | None = None
 
     @property
     def is_certified(self) -> bool:
         """Admissible, separated, and optimal (tiling, or local optimum found twice or more)."""
         if not (self.admissible and self.separated):
+            return False
+        if self.enumeration_confirms is False:
             return False
         if self.space_filling:
             return True
@@ -162,7 +172,8 @@ class PackingCertificate:
         tight = ""
         if self.tight is not None:
             tight = f"; {'tight' if self.tight else 'NOT tight'} for {self.configuration}"
-        return f"{why}{tight}; {adm} (min gauge {self.min_gauge:.12f})"
+        enum = f"; {self.enumeration}" if self.enumeration else ""
+        return f"{why}{tight}{enum}; {adm} (min gauge {self.min_gauge:.12f})"
 
 
 def _readonly(a: ArrayLike, dtype: Any = np.float64) -> Any:
@@ -313,6 +324,17 @@ _PATTERNS = {
 }
 
 
+def _enumeration(body: _lp.Body, det: float, rng: np.random.Generator) -> tuple[str, bool]:
+    from habit.lattice_configurations import enumerate_configurations
+
+    chk = enumerate_configurations(body, det, rng=rng)
+    text = (
+        f"{chk.configurations} Minkowski configurations enumerated, {chk.resolved} resolved, "
+        f"{chk.open} open" + (", a denser lattice found" if chk.improved else "")
+    )
+    return text, chk.confirms
+
+
 def _tightness(
     body: _lp.Body,
     basis_cols: np.ndarray,
@@ -341,6 +363,7 @@ def densest_lattice_packing(
     max_starts: int = 200,
     rng: int | np.random.Generator | None = 0,
     progress: ProgressFn | None = None,
+    check_configurations: bool = False,
 ) -> LatticePacking:
     """Find the densest packing of translates of a convex solid by a lattice.
 
@@ -358,6 +381,11 @@ def densest_lattice_packing(
         Seed or generator for the random starts (default 0: reproducible).
     progress : callable, optional, keyword-only
         Called with the number of starts finished.
+    check_configurations : bool, keyword-only
+        Also enumerate every Minkowski configuration of ``D`` (Betke & Henk's algorithm,
+        see :mod:`habit.lattice_configurations`) and check the result against each family.
+        Costs seconds to minutes; practical when ``D`` has at most about 20 facets
+        (refused above 26).
 
     Returns
     -------
@@ -385,6 +413,11 @@ def densest_lattice_packing(
     v = _vertices_of(solid)
     n0 = _check_starts(starts)
     body = _lp.make_body(v)
+    if check_configurations and len(body.facets_d) > 26:
+        raise InputError(
+            f"the difference body has {len(body.facets_d)} facets; the configuration check "
+            "is limited to 26 (use check_configurations=False)."
+        )
     out = _lp.search_lattice(
         body,
         rng=_rng(rng),
@@ -406,6 +439,9 @@ def densest_lattice_packing(
     cell = float(abs(np.linalg.det(basis)))
     density = vol / cell
     sep = packing_overlap(v, basis)
+    enum_text, enum_ok = None, None
+    if check_configurations:
+        enum_text, enum_ok = _enumeration(body, float(out.det), _rng(rng))
     if density >= 1.0 - 1e-12:
         config, tight = None, None  # a tiling: optimal by volume, no family test needed
     else:
@@ -431,6 +467,8 @@ def densest_lattice_packing(
         tight=None if tight is None else tight.tight,
         family_dimension=None if tight is None else tight.family_dimension,
         family_best_ratio=None if tight is None else tight.best_det_ratio,
+        enumeration=enum_text,
+        enumeration_confirms=enum_ok,
     )
     if not cert.admissible:  # pragma: no cover - guarded by the search
         raise PackingError("the best lattice found overlaps; rerun with more starts.")

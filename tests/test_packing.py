@@ -244,3 +244,34 @@ def test_double_lattice_tetrahedron():
     assert is_packing(p.vertices, p.basis, shift=p.shift)
     assert not is_packing(p.vertices, p.basis * (1 - 1e-6), shift=p.shift * (1 - 1e-6))
     assert len(p.reflected_contacts) > 0
+
+
+@pytest.mark.parametrize(
+    ("name", "order"),
+    [("cube", 48), ("icosahedron", 120), ("snub cube", 48), ("tetrahedron", 48)],
+)
+def test_symmetries_of_difference_body(name, order):
+    # D = K - K is centrally symmetric: its group is that of K times {I, -I}, i.e. Oh (48)
+    # for cube, tetrahedron (Td x {+-I}) and snub cube (O x {+-I}), Ih (120) for the
+    # icosahedron (Coxeter 1973, orders of the polyhedral groups)
+    from habit.lattice_configurations import facet_symmetries
+
+    perms = facet_symmetries(lp.make_body(reference_solid(name)).facets_d)
+    assert len(perms) == order
+    assert len(np.unique(perms, axis=0)) == order
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("name", ["cube", "octahedron"])
+def test_configuration_enumeration_confirms(name):
+    # Betke & Henk 2000: every critical lattice has a Minkowski configuration; enumerating
+    # all of them (with one branching step) must not find anything denser than the search
+    p = densest_lattice_packing(name, starts=10, check_configurations=True)
+    assert p.certificate.enumeration_confirms, p.certificate.summary()
+    assert p.is_certified
+    assert p.density == pytest.approx(PUBLISHED[name][0], abs=1e-9)
+
+
+def test_configuration_check_refuses_large_difference_bodies():
+    with pytest.raises(InputError, match="facets"):
+        densest_lattice_packing("snub cube", starts=1, check_configurations=True)
