@@ -152,7 +152,7 @@ def _relabelings_i() -> list[tuple[np.ndarray, np.ndarray]]:
 
 
 def _relabelings_ii() -> list[tuple[np.ndarray, np.ndarray]]:
-    """The 6 permutations of b1, b2, b3 acting on the pattern-(ii) slots."""
+    """Return the 6 permutations of b1, b2, b3 acting on the pattern-(ii) slots."""
     out = []
     pairs = [(0, 1), (0, 2), (1, 2)]
     for pi in itertools.permutations(range(3)):
