@@ -164,7 +164,9 @@ def _relabelings_ii() -> list[tuple[np.ndarray, np.ndarray]]:
     return out
 
 
-def _canonical(conf: np.ndarray, perms: np.ndarray, opp: np.ndarray, rel: list) -> np.ndarray:
+def _canonical(
+    conf: np.ndarray, perms: np.ndarray, opp: np.ndarray, rel: list[tuple[np.ndarray, np.ndarray]]
+) -> np.ndarray:
     """Smallest code of each configuration over symmetries x relabelings; (N, 6) -> (N,)."""
     f = perms.shape[1]
     weights = f ** np.arange(5, -1, -1, dtype=np.int64)

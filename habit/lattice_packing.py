@@ -339,7 +339,7 @@ class _Problem:
         return out
 
     def row(self, z: np.ndarray, f: np.ndarray, coset: bool) -> np.ndarray:
-        return self.rows(z, f[None, :], coset)[0]
+        return np.asarray(self.rows(z, f[None, :], coset)[0])
 
     def rows(self, z: np.ndarray, f: np.ndarray, coset: bool) -> np.ndarray:
         """Constraint rows ``r . x >= 1`` of point ``z`` on each facet in ``f`` (k, 3)."""
@@ -489,7 +489,7 @@ def _lp_step(
     prob: _Problem,
     x: np.ndarray,
     g: np.ndarray,
-    cand_rows: list[list[np.ndarray]],
+    cand_rows: list[np.ndarray],
     rho: float,
     combos: bool,
 ) -> tuple[np.ndarray, float] | None:
@@ -650,7 +650,7 @@ def _polish(
     dn = prob.det(xn)
     if not np.isfinite(m) or m < 1.0 - _ADM_TOL or not 0 < dn <= prob.det(x) * (1 + accept_rel):
         return x
-    return xn
+    return np.asarray(xn)
 
 
 @dataclass(frozen=True)
@@ -938,7 +938,7 @@ def family_tightness(
 
     def grad(x: np.ndarray) -> np.ndarray:
         m = x.reshape(3, 3)
-        return sign * (np.linalg.det(m) * np.linalg.inv(m).T).ravel()
+        return np.asarray(sign * (np.linalg.det(m) * np.linalg.inv(m).T).ravel())
 
     eq_ind = _independent_rows(eq)
 
@@ -968,9 +968,9 @@ def family_tightness(
                 xn = newton(x)
                 if xn is not None and 0 < det(xn) <= d:
                     return det(xn), xn
-            if d <= 0.5 * floor_det or d < target * (1 - 1e-7):
+            if d <= 0.5 * floor_det or d < goal * (1 - 1e-7):
                 return d, x  # below the optimum (not tight), or collapsing to a flat lattice
-            if d <= target * (1 + 1e-9):
+            if d <= goal * (1 + 1e-9):
                 return d, x  # reached the optimum's value
             g = grad(x)
             dx = _solve_lp_core(g, ineq, 1.0 - ineq @ x, rho, eq, np.zeros(len(eq)))
@@ -992,7 +992,7 @@ def family_tightness(
                     break
         return d, x
 
-    target = abs(det0) if target is None else float(target)
+    goal = abs(det0) if target is None else float(target)
     best, best_x = descend(x0.copy())
     done = 1
     for _ in range(max(starts - 1, 0)):
@@ -1005,7 +1005,7 @@ def family_tightness(
         if val < best:
             best, best_x = val, xv
         done += 1
-        if best < target * (1 - 1e-7):
+        if best < goal * (1 - 1e-7):
             break
     ratio = best / abs(det0)
     return Tightness(
@@ -1013,7 +1013,7 @@ def family_tightness(
         family_dimension=9 - rank,
         starts=done,
         best_det_ratio=float(ratio),
-        tight=bool(best >= target * (1.0 - 1e-7)),
+        tight=bool(best >= goal * (1.0 - 1e-7)),
         best_basis=best_x.reshape(3, 3),
     )
 
