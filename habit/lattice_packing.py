@@ -367,20 +367,19 @@ class _Problem:
             m = min(m, m2)
         return m
 
-    def normalise(self, x: np.ndarray) -> np.ndarray:
-        """Scale so that the smallest gauge is exactly 1 (touching packing)."""
+    def normalise(self, x: np.ndarray, reduce: bool = True) -> np.ndarray:
+        """Scale so that the smallest gauge is 1 (touching packing); LLL-reduce first."""
         b, t = self.split(x)
-        b, _ = lll_reduce(b)
+        if reduce:
+            b, _ = lll_reduce(b)
         if np.linalg.det(b) < 0:
             b[:, 2] *= -1
         if self.double:
             t = t - b @ np.round(np.linalg.solve(b, t))
         x = self.join(b, t)
-        for _ in range(3):
-            m = self.min_gauge(x)
+        m = self.min_gauge(x)
+        if m < 1.0 - 1e-13 or m > 1.0 + 1e-13:
             x = x / m
-            if abs(m - 1.0) < 1e-15:
-                break
         return x
 
 
@@ -392,7 +391,7 @@ def _slp(prob: _Problem, x: np.ndarray, max_iter: int = 400) -> np.ndarray:
     rho = 0.05
     det = prob.det(x)
     accepted = 0
-    for _ in range(max_iter):
+    for it in range(max_iter):
         g = prob.grad(x)
         cand_rows = _candidate_rows(prob, x, rho)
         best = _lp_step(prob, x, g, cand_rows, rho, combos=False)
@@ -407,7 +406,7 @@ def _slp(prob: _Problem, x: np.ndarray, max_iter: int = 400) -> np.ndarray:
         if prob.det(x + dx) < 1e-3 * det:  # never step through a singular basis
             rho *= 0.3
             continue
-        xn = prob.normalise(x + dx)
+        xn = prob.normalise(x + dx, reduce=it % 4 == 0)
         dn = prob.det(xn)
         if np.isfinite(dn) and 0 < dn < det and det - dn >= 0.1 * pred:
             x, det = xn, dn
