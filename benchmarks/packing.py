@@ -64,11 +64,35 @@ def floor_seconds(v: np.ndarray, repeat: int = 20) -> float:
     return float(best)
 
 
+def configurations(names: list[str]) -> None:
+    """Time ``check_configurations=True`` (search with 10 starts plus the enumeration)."""
+    from habit import lattice_packing as lp
+
+    print(f"{'solid':22s} {'facets of D':>11s} {'time (s)':>9s} confirms  enumeration")
+    for name in names:
+        v = reference_solid(name)
+        t = time.perf_counter()
+        p = densest_lattice_packing(v, starts=10, check_configurations=True)
+        dt = time.perf_counter() - t
+        nf = len(lp.make_body(v).facets_d)
+        c = p.certificate
+        print(f"{name:22s} {nf:11d} {dt:9.1f} {c.enumeration_confirms!s:8s}  {c.enumeration}")
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--repeat", type=int, default=1, help="runs per solid (best taken)")
     ap.add_argument("--json", help="write the rows as JSON to this file")
+    ap.add_argument(
+        "--configurations",
+        nargs="*",
+        metavar="SOLID",
+        help="only time the Minkowski-configuration check for these solids and exit",
+    )
     args = ap.parse_args()
+    if args.configurations:
+        configurations(args.configurations)
+        return
     rows = []
     print(
         f"{'solid':28s} {'density':>18s} {'published':>18s} {'|diff|':>8s} "

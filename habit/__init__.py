@@ -15,6 +15,8 @@ __version__ = "0.1.0"
 _PUBLIC: dict[str, str] = {
     "HabitError": "habit.errors",
     "Tolerances": "habit.tolerances",
+    "densest_lattice_packing": "habit.packing",
+    "reference_solid": "habit.solids",
 }
 
 __all__ = sorted(_PUBLIC)
