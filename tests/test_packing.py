@@ -190,6 +190,9 @@ def test_plot_returns_artists():
     assert "Å" in arts[0].axes.get_xlabel()
     with pytest.raises(InputError):
         plot_packing(p, neighbours="all")
+    d = densest_double_lattice_packing("tetrahedron", starts=1, max_starts=1)
+    arts = plot_packing(d)
+    assert len(arts) == 1 + len(d.contacts) + len(d.reflected_contacts)
     plt.close("all")
 
 
