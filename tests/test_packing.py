@@ -278,3 +278,23 @@ def test_configuration_enumeration_confirms(name):
 def test_configuration_check_refuses_large_difference_bodies():
     with pytest.raises(InputError, match="facets"):
         densest_lattice_packing("snub cube", starts=1, check_configurations=True)
+
+
+@settings(max_examples=6, deadline=None)
+@given(seed=st.integers(0, 2**31 - 1), n=st.integers(5, 9))
+def test_random_polytopes_pack_with_density_at_most_one(seed, n):
+    # invariant: any lattice packing has density in (0, 1]; the returned lattice passes the
+    # independent separating-axis test (random convex hulls of n points)
+    pts = np.random.default_rng(seed).normal(size=(n, 3))
+    p = densest_lattice_packing(pts, starts=3, max_starts=3, rng=seed)
+    assert 0.0 < p.density <= 1.0 + 1e-9
+    assert is_packing(p.vertices, p.basis)
+    assert p.certificate.admissible
+
+
+def test_flat_input_is_refused():
+    from habit.errors import EmptyPolyhedronError
+
+    square = np.array([[0, 0, 0], [1, 0, 0], [0, 1, 0], [1, 1, 0]], float)
+    with pytest.raises(EmptyPolyhedronError):
+        densest_lattice_packing(square)
