@@ -11,7 +11,10 @@ programming over lattice bases from many random starts, polish each end point by
 method on its Lagrange system, and certify the best: an exhaustive admissibility check, the
 first- and second-order optimality conditions for every choice of facet at contacts on
 edges of ``D``, agreement of independent starts, Minkowski's configuration of the contact
-vectors, and an independent separating-plane test of every neighbour pair.
+vectors and the tightness of its family (Betke & Henk 2000), and an independent
+separating-plane test of every neighbour pair. Optionally (``check_configurations=True``)
+every Minkowski configuration is enumerated as a cross-check
+(:mod:`habit.lattice_configurations`).
 
 Bases are returned with the lattice vectors as **rows** (Å), as in
 :attr:`habit.crystal.Crystal.lattice`.

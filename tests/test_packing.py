@@ -105,6 +105,16 @@ def test_units_follow_input_scale():
     assert np.all(np.abs(np.linalg.norm(p.contacts, axis=1)) > 0)
 
 
+def test_neighbours_match_brute_force_enumeration():
+    # neighbours() against a plain box enumeration of integer combinations of the basis
+    p = densest_lattice_packing("truncated octahedron", starts=2)
+    r = 1.5 * np.max(np.linalg.norm(p.basis, axis=1))
+    g = np.mgrid[-6:7, -6:7, -6:7].reshape(3, -1).T @ p.basis
+    n = np.linalg.norm(g, axis=1)
+    expected = np.sort(n[(n > 0) & (n <= r)])
+    assert np.allclose(np.sort(np.linalg.norm(p.neighbours(r), axis=1)), expected)
+
+
 def test_result_is_frozen_and_read_only():
     p = densest_lattice_packing("cube", starts=2)
     with pytest.raises(dataclasses.FrozenInstanceError):
