@@ -24,6 +24,12 @@ _PUBLIC: dict[str, str] = {
     "make_particle": "habit.particle",
     "index_faces": "habit.indexing",
     "read_measurements": "habit.measurements",
+    "solve_shapes": "habit.batch",
+    "shape_map": "habit.batch",
+    "sample_shapes": "habit.batch",
+    "run_batch": "habit.batch",
+    "densest_lattice_packing": "habit.packing",
+    "reference_solid": "habit.solids",
 }
 
 __all__ = sorted(_PUBLIC)

@@ -261,8 +261,9 @@ def test_bulk_coordination_matches_pymatgen_neighbours(structure: str, expected)
 def test_tree_coordination_equals_brute_force_count(seed: int) -> None:
     # all-pairs distances as an independent count (checks the near-surface shortcut)
     rng = np.random.default_rng(seed)
-    normals = rng.normal(size=(12, 3))
-    d = rng.uniform(7.0, 10.0, size=12)
+    # 12 random planes plus a closing box, so every seed gives a bounded shape
+    normals = np.vstack([rng.normal(size=(12, 3)), np.eye(3), -np.eye(3)])
+    d = rng.uniform(7.0, 10.0, size=18)
     s = fcc_cu()
     pos, site = carve(s.lattice.matrix, s.frac_coords, normals, d, centre=rng.random(3))
     shells = first_shells(s.lattice.matrix, s.frac_coords)

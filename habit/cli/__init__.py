@@ -34,6 +34,9 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "index": ("habit.cli.index", "Miller indices of measured faces; cell shape from angles."),
     "orient": ("habit.cli.orient", "Crystal axes in the lab frame from measured faces."),
     "stereo": ("habit.cli.stereo", "Stereogram of faces and measured poles."),
+    "map": ("habit.cli.map", "Map which forms show over two form values, refined at boundaries."),
+    "sample": ("habit.cli.sample", "Monte Carlo over uncertain form values: odds and intervals."),
+    "batch": ("habit.cli.batch", "Shapes for a folder of crystal files or a CSV of energy sets."),
 }
 
 
