@@ -10,7 +10,13 @@ from habit.cli._common import json_option
 @click.command("pack")
 @click.argument("shape")
 @click.option("--double", is_flag=True, help="Also search double lattices (K and -K).")
-@click.option("--starts", default=40, show_default=True, help="Random starts of the search.")
+@click.option(
+    "--starts",
+    type=click.IntRange(1, 10_000),
+    default=30,
+    show_default=True,
+    help="Random starts of the search (it goes on until the best is reached three times).",
+)
 @click.option("--seed", default=0, show_default=True, help="Seed of the random starts.")
 @click.option("--plot", "plot_path", metavar="FILE", help="Particle with touching neighbours.")
 @json_option
