@@ -78,6 +78,9 @@ def _record(result: object) -> dict[str, object]:
 def _print(result: object, title: str) -> None:
     r = result
     click.echo(f"\n{title}: density {r.density:.12f} ({r.density * 100:.4f} % of space)")  # type: ignore[attr-defined]
+    click.echo(
+        f"particle volume {r.particle_volume:.6g} Å³ in a cell of {r.cell_volume:.6g} Å³"  # type: ignore[attr-defined]
+    )
     click.echo("basis (rows, Å):")
     for row in r.basis:  # type: ignore[attr-defined]
         click.echo("  [" + "  ".join(f"{x:>10.5f}" for x in row) + " ]")
