@@ -87,5 +87,9 @@ def command(
         save_figure(arts[0].faces.axes.figure, plot_path)
     if export_path:
         write_solid(dual, export_path)
+    if json_path != "-":
+        for path in (plot_path, export_path):
+            if path:
+                click.echo(f"wrote {path}")
     if json_path is not None:
         write_json(data, json_path)

@@ -58,6 +58,8 @@ def command(
         artists = plot_packing(result)
         fig = artists[0].axes.figure if isinstance(artists, list) else artists.figure
         save_figure(fig, plot_path)
+        if json_path != "-":
+            click.echo(f"wrote {plot_path}")
     if json_path is not None:
         write_json(data, json_path)
 
