@@ -35,6 +35,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "particle": ("habit.cli.particle", "Carve a particle of atoms by a crystal's shape."),
     "index": ("habit.cli.index", "Miller indices of measured faces; cell shape from angles."),
     "orient": ("habit.cli.orient", "Crystal axes in the lab frame from measured faces."),
+    "scan": ("habit.cli.scan", "Facets of a scanned crystal mesh, their (hkl) and orientation."),
     "stereo": ("habit.cli.stereo", "Stereogram of faces and measured poles."),
     "map": ("habit.cli.map", "Map which forms show over two form values, refined at boundaries."),
     "sample": ("habit.cli.sample", "Monte Carlo over uncertain form values: odds and intervals."),
