@@ -7,7 +7,7 @@ from typing import Any, NamedTuple
 
 __all__ = ["FACET_PALETTE", "DROPPED_COLOUR", "ScanArtists", "plot_scan"]
 
-#: colours of facets (cycled, largest facet first); our own choice
+#: colours of facets (touching facets get different ones); our own choice
 FACET_PALETTE: tuple[str, ...] = (
     "#4f86c6", "#e0a44a", "#6cb38a", "#cf6a5e", "#9a7cc4", "#4db3b5",
     "#bdb65a", "#c97fa8", "#8c99a6", "#a9805a", "#7fa0d8", "#d8c27a",
@@ -33,6 +33,31 @@ class ScanArtists(NamedTuple):
     triangles: Any
     labels: list[Any]
     colours: list[str]
+
+
+def _colour_indices(facets: Any) -> list[int]:
+    """Palette slot of each facet: greedy colouring, so that touching facets differ."""
+    import numpy as np
+
+    tri = np.asarray(facets.triangles)
+    lab = np.asarray(facets.labels)
+    e = np.sort(tri[:, [0, 1, 1, 2, 2, 0]].reshape(-1, 2), axis=1)  # (3F, 2)
+    owner = np.repeat(lab, 3)
+    order = np.lexsort((e[:, 1], e[:, 0]))
+    e, owner = e[order], owner[order]
+    same = np.all(e[1:] == e[:-1], axis=1)  # consecutive rows: the two sides of an edge
+    a, b = owner[:-1][same], owner[1:][same]
+    ok = (a >= 0) & (b >= 0) & (a != b)
+    neighbours: dict[int, set[int]] = {k: set() for k in range(facets.n_facets)}
+    for i, j in zip(a[ok].tolist(), b[ok].tolist(), strict=True):
+        neighbours[i].add(j)
+        neighbours[j].add(i)
+    slots: list[int] = []
+    for k in range(facets.n_facets):
+        taken = {slots[j] for j in neighbours[k] if j < k}
+        free = [c for c in range(len(FACET_PALETTE)) if c not in taken]
+        slots.append(free[0] if free else k % len(FACET_PALETTE))
+    return slots
 
 
 def plot_scan(
@@ -75,7 +100,7 @@ def plot_scan(
 
         raise InputError(f"face_labels needs one label per facet ({facets.n_facets}); got "
                          f"{len(names)}.")
-    colours = [FACET_PALETTE[k % len(FACET_PALETTE)] for k in range(facets.n_facets)]
+    colours = [FACET_PALETTE[c] for c in _colour_indices(facets)]
     tri = np.asarray(facets.vertices)[np.asarray(facets.triangles)]  # (F, 3, 3)
     per_tri = [colours[k] if k >= 0 else DROPPED_COLOUR for k in facets.labels.tolist()]
     kwargs.setdefault("linewidths", 0.1)
