@@ -24,6 +24,7 @@ _PUBLIC: dict[str, str] = {
     "make_particle": "habit.particle",
     "index_faces": "habit.indexing",
     "read_measurements": "habit.measurements",
+    "scan_facets": "habit.scan",
     "solve_shapes": "habit.batch",
     "shape_map": "habit.batch",
     "sample_shapes": "habit.batch",

@@ -543,7 +543,8 @@ def segment_facets(
     new_id[order] = np.arange(order.size)
     labels = np.full(len(triangles), -1, dtype=np.int64)
     labels[good] = new_id[region[good]]
-    return _readonly(labels, np.int64)
+    out: IntArray = _readonly(labels, np.int64)
+    return out
 
 
 # ------------------------------------------------------------------------- plane fits
