@@ -364,3 +364,15 @@ def test_plot_scan_colours_touching_facets_apart():
                                                                  strict=True))
     with pytest.raises(InputError):
         plot_scan(facets, face_labels=["only one"])
+
+
+def test_missing_trimesh_names_the_extra(monkeypatch, tmp_path):
+    import sys
+
+    from habit.errors import MissingDependencyError
+
+    path = tmp_path / "x.stl"
+    path.write_bytes(b"\0" * 84)
+    monkeypatch.setitem(sys.modules, "trimesh", None)  # import now fails
+    with pytest.raises(MissingDependencyError, match=r"pip install habit\[mesh\]"):
+        read_mesh(path)

@@ -112,3 +112,8 @@ def test_scan_too_few_facets(runner, tmp_path):
     result = runner.invoke(main, ["scan", "zircon", str(mesh), "--min-area", "0.3"])
     assert result.exit_code == 1 and "facet" in result.output
     assert "Traceback" not in result.output
+
+
+def test_scan_is_listed(runner):
+    result = runner.invoke(main, ["--help"])
+    assert result.exit_code == 0 and "scan" in result.output
