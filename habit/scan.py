@@ -63,6 +63,7 @@ from __future__ import annotations
 
 import math
 import os
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -162,12 +163,15 @@ def mesh_arrays(mesh: Any) -> tuple[FloatArray, IntArray]:
     return vertices, triangles
 
 
-def _edge_counts(triangles: IntArray) -> tuple[IntArray, IntArray]:
-    """Undirected edges (E, 2) with the number of triangles that use each."""
+def _edge_counts(triangles: IntArray, *, directed: bool = False
+                 ) -> tuple[IntArray, IntArray]:
+    """Edges (E, 2) with the number of triangles that use each (undirected by default)."""
     e = triangles[:, [0, 1, 1, 2, 2, 0]].reshape(-1, 2)  # (3F, 2) directed
-    e = np.sort(e, axis=1)
-    edges, counts = np.unique(e, axis=0, return_counts=True)
-    return edges, counts
+    if not directed:
+        e = np.sort(e, axis=1)
+    n = int(triangles.max()) + 1
+    keys, counts = np.unique(e[:, 0] * n + e[:, 1], return_counts=True)  # (E,)
+    return np.column_stack([keys // n, keys % n]), counts
 
 
 def check_mesh(mesh: Any, *, where: str = "mesh") -> tuple[FloatArray, IntArray]:
@@ -228,8 +232,7 @@ software first.
             f"{where}: {shared} edges are shared by more than two triangles (not a single "
             "closed surface); give one closed, manifold surface."
         )
-    directed = triangles[:, [0, 1, 1, 2, 2, 0]].reshape(-1, 2)
-    _, dcounts = np.unique(directed, axis=0, return_counts=True)
+    _, dcounts = _edge_counts(triangles, directed=True)
     clashes = int(np.count_nonzero(dcounts > 1))
     if clashes:
         raise FileFormatError(
@@ -391,10 +394,11 @@ def _ranges(starts: IntArray, stops: IntArray) -> IntArray:
     return np.asarray(np.arange(total) + shift, dtype=np.int64)
 
 
-def _grow_regions(normals: FloatArray, areas: FloatArray, adj: IntArray, cos_tol: float
-                  ) -> IntArray:
+def _grow_regions(normals: FloatArray, areas: FloatArray, adj: IntArray, cos_tol: float,
+                  progress: Callable[[int], None] | None = None) -> IntArray:
     """Region growing on (denoised) normals; returns a region id per triangle."""
     count = len(normals)
+    done, reported, step = 0, 0, max(1, count // 100)
     offsets, neigh = _csr(adj, count)
     # seed order: triangles that agree best with their neighbours first
     a, b = adj[:, 0], adj[:, 1]
@@ -422,8 +426,15 @@ def _grow_regions(normals: FloatArray, areas: FloatArray, adj: IntArray, cos_tol
             take = cand[normals[cand] @ mean >= cos_tol]
             region[take] = next_id
             total = total + (normals[take] * areas[take, None]).sum(axis=0)
+            done += take.size
             ring = take
         next_id += 1
+        done += 1
+        if progress is not None and done - reported >= step:
+            progress(done)
+            reported = done
+    if progress is not None:
+        progress(count)
     return region
 
 
@@ -478,6 +489,7 @@ def segment_facets(
     *,
     angle_deg: float = 10.0,
     min_area_fraction: float = 0.005,
+    progress: Callable[[int], None] | None = None,
 ) -> IntArray:
     """Split a closed triangle mesh into flat facets by region growing.
 
@@ -495,6 +507,8 @@ def segment_facets(
         keep it well below the smallest interfacial angle between neighbouring faces.
     min_area_fraction : float
         Smallest facet kept, as a fraction of the mesh's total area, 0 <= f < 0.5.
+    progress : callable, optional
+        Called now and then with the number of triangles placed so far (of F).
 
     Returns
     -------
@@ -527,7 +541,7 @@ def segment_facets(
     tol = math.radians(angle_deg)
     smooth = _smooth_normals(normals, areas, adj, tol, _SMOOTHING_PASSES)
     cos_tol = math.cos(tol)
-    region = _grow_regions(smooth, areas, adj, cos_tol)
+    region = _grow_regions(smooth, areas, adj, cos_tol, progress)
     centres = vertices[triangles].mean(axis=1)  # (F, 3)
     min_area = min_area_fraction * float(areas.sum())
     gap = 0.01 * float(np.linalg.norm(np.ptp(vertices, axis=0)))
@@ -705,21 +719,22 @@ def fit_planes(mesh: Any, labels: ArrayLike) -> ScanFacets:
     )
 
 
-def scan_facets(mesh: Any, *, angle_deg: float = 10.0, min_area_fraction: float = 0.005
-                ) -> ScanFacets:
+def scan_facets(mesh: Any, *, angle_deg: float = 10.0, min_area_fraction: float = 0.005,
+                progress: Callable[[int], None] | None = None) -> ScanFacets:
     """Segment a mesh and fit its facets: :func:`segment_facets` then :func:`fit_planes`.
 
     Parameters
     ----------
     mesh : trimesh.Trimesh or (vertices, triangles)
-    angle_deg, min_area_fraction
+    angle_deg, min_area_fraction, progress
         As for :func:`segment_facets`.
 
     Returns
     -------
     ScanFacets
     """
-    labels = segment_facets(mesh, angle_deg=angle_deg, min_area_fraction=min_area_fraction)
+    labels = segment_facets(mesh, angle_deg=angle_deg, min_area_fraction=min_area_fraction,
+                            progress=progress)
     return fit_planes(mesh, labels)
 
 

@@ -376,3 +376,12 @@ def test_missing_trimesh_names_the_extra(monkeypatch, tmp_path):
     monkeypatch.setitem(sys.modules, "trimesh", None)  # import now fails
     with pytest.raises(MissingDependencyError, match=r"pip install habit\[mesh\]"):
         read_mesh(path)
+
+
+def test_progress_reports_triangles_placed():
+    _, poly, _, (v, t) = _scan("zircon", 0.002, 0.05, 28)
+    seen: list[int] = []
+    facets = scan_facets((v, t), progress=seen.append)
+    assert seen and seen[-1] == len(t)
+    assert all(b >= a for a, b in zip(seen, seen[1:], strict=False))
+    assert facets.n_facets == poly.n_faces

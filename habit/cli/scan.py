@@ -51,7 +51,13 @@ def command(
     import math
     from pathlib import Path
 
-    from habit.cli._common import crystal_header, crystal_json, resolve_crystal, write_json
+    from habit.cli._common import (
+        crystal_header,
+        crystal_json,
+        progress_bar,
+        resolve_crystal,
+        write_json,
+    )
     from habit.cli.index import face_text
     from habit.errors import FileFormatError, InputError
     from habit.indexing import index_faces
@@ -60,6 +66,10 @@ def command(
     crystal, rest = resolve_crystal(args, cell, crystal_class, space_group)
     if len(rest) != 1:
         raise InputError("give one MESH file (.stl, .obj or .ply) after the crystal.")
+    for target in (plot_path, None if json_path == "-" else json_path):
+        if target is not None and not (Path(target).parent or Path(".")).is_dir():
+            raise FileFormatError(f"cannot write {target}: folder {Path(target).parent} "
+                                  "does not exist.")
     if plot_path is not None and Path(plot_path).suffix.lower() not in (".png", ".svg", ".pdf"):
         raise FileFormatError(f"cannot save a figure as {Path(plot_path).name!r}: use a .png, "
                               ".svg or .pdf file name.")
@@ -67,7 +77,12 @@ def command(
         raise InputError("--unit needs a name, e.g. mm.")
     mesh_path = rest[0]
     mesh = read_mesh(mesh_path)
-    facets = scan_facets(mesh, angle_deg=angle_deg, min_area_fraction=min_area)
+    if json_path != "-":
+        with progress_bar(len(mesh.faces), "Segmenting facets") as update:
+            facets = scan_facets(mesh, angle_deg=angle_deg, min_area_fraction=min_area,
+                                 progress=update)
+    else:
+        facets = scan_facets(mesh, angle_deg=angle_deg, min_area_fraction=min_area)
     if facets.n_facets < 3:
         raise InputError(
             f"{mesh_path}: only {facets.n_facets} facet(s) found; indexing needs at least "

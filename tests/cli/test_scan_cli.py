@@ -77,7 +77,8 @@ def _mesh_file(tmp_path: Path, name: str, drop: int = 0) -> Path:
     ("text", "STL"),
     ("suffix", "unknown mesh file type"),
     ("plot-suffix", "cannot save a figure"),
-], ids=["hole", "empty", "missing", "not-a-mesh", "suffix", "plot-suffix"])
+    ("plot-folder", "does not exist"),
+], ids=["hole", "empty", "missing", "not-a-mesh", "suffix", "plot-suffix", "plot-folder"])
 def test_scan_refusals_one_line_nothing_written(runner, tmp_path, kind, fragment):
     if kind == "hole":
         mesh = _mesh_file(tmp_path, "holed.stl", drop=1)
@@ -96,6 +97,8 @@ def test_scan_refusals_one_line_nothing_written(runner, tmp_path, kind, fragment
         mesh = _mesh_file(tmp_path, "ok.stl")
     out = tmp_path / "out.json"
     plot = tmp_path / ("out.jpg" if kind == "plot-suffix" else "out.png")
+    if kind == "plot-folder":
+        plot = tmp_path / "no-such-folder" / "out.png"
     result = runner.invoke(main, ["scan", "zircon", str(mesh), "--json", str(out),
                                   "--plot", str(plot)])
     assert result.exit_code == 1
