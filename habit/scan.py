@@ -18,23 +18,27 @@ unit), areas in that unit squared, angles in radians (the parameters in degrees 
 
 Method
 ------
-*Denoising.* Each triangle's unit normal is replaced, a few times over, by the
-area-weighted mean of its own and its edge neighbours' normals, each neighbour weighted
-by ``exp(-|n_i - n_j|² / (2 s²))`` with ``s`` the segmentation angle: a bilateral filter
-on normals [2]_, which averages noise within a face but hardly across an edge between
-faces. The denoised normals serve the segmentation only; planes are fitted to the
-measured vertices.
+*Denoising.* Each triangle's unit normal is replaced by the area-weighted mean of its
+own and its edge neighbours' normals, each neighbour weighted by
+``exp(-|n_i - n_j|² / (2 s²))`` with ``s`` the segmentation angle: a bilateral filter on
+normals [2]_, which averages noise within a face but hardly across an edge between faces.
+It runs at least 4 passes, and more (at most 40) while the median angle between
+neighbouring normals is above 0.2 ``s`` — finely triangulated noisy scans need more. The
+denoised normals serve the segmentation only; planes are fitted to the measured
+vertices.
 
 *Segmentation rule.* Seeds are taken in order of how well a triangle's denoised normal
 agrees with its neighbours' (the flattest spots first). From a seed, a region grows ring
 by ring over edge-adjacent free triangles whose denoised normal lies within ``angle_deg``
 of the region's area-weighted mean normal, which is updated after each ring (region
-growing [1]_). Adjacent regions whose mean normals agree within ``angle_deg`` are then
-merged. A region is kept as a facet when its area is at least ``min_area_fraction`` of
-the mesh's total area; the triangles of smaller regions get the label −1 (dropped). A
-curved patch (a rounded edge, a chip) breaks into many narrow regions, each of which
-spans only about ``2 * angle_deg`` of the curvature, so it is dropped by the same rule
-unless it is large.
+growing [1]_). Regions whose mean normals agree within ``angle_deg`` are then merged
+when they share an edge, or, for regions of at least a fifth of the area threshold,
+when each one's centroid lies within 2.5 % of the mesh's bounding-box diagonal of the
+other's plane (one face split by a band of noisy or damaged triangles). A region is
+kept as a facet when its area is at least ``min_area_fraction`` of the mesh's total
+area; the triangles of smaller regions get the label −1 (dropped). A curved patch (a
+rounded edge, a chip) breaks into many narrow regions, each of which spans only about
+``2 * angle_deg`` of the curvature, so it is dropped by the same rule unless it is large.
 
 *Plane fit.* For each facet, every distinct vertex gets the weight of one third of the
 area of the facet's triangles that meet there; the plane passes through the weighted
@@ -91,7 +95,9 @@ __all__ = [
 #: file types :func:`read_mesh` understands
 MESH_SUFFIXES: tuple[str, ...] = (".stl", ".obj", ".ply")
 
-_SMOOTHING_PASSES = 4  # bilateral normal-filter passes before segmentation
+_SMOOTHING_PASSES = 4  # bilateral normal-filter passes before segmentation, at least
+_MAX_PASSES = 40  # and at most
+_SETTLED = 0.2  # stop when the median neighbour angle is below this x the segmentation angle
 
 
 def _readonly(a: Any, dtype: Any = float) -> Any:
@@ -358,10 +364,19 @@ def _adjacency(triangles: IntArray) -> IntArray:
 
 def _smooth_normals(normals: FloatArray, areas: FloatArray, adj: IntArray, sigma: float,
                     passes: int) -> FloatArray:
-    """Bilateral filter on triangle normals (see the module notes)."""
+    """Bilateral filter on triangle normals (see the module notes).
+
+    At least ``passes`` passes; more (up to ``_MAX_PASSES``) while the median angle
+    between neighbouring normals exceeds ``_SETTLED`` x sigma, i.e. while the noise within
+    faces is still large against the segmentation angle (finely triangulated noisy scans).
+    """
     n = normals.copy()
     a, b = adj[:, 0], adj[:, 1]
-    for _ in range(passes):
+    for done in range(_MAX_PASSES):
+        if done >= passes:
+            chord = np.sqrt(np.median(np.sum((n[a] - n[b]) ** 2, axis=1)))
+            if chord <= _SETTLED * sigma:
+                break
         d2 = np.sum((n[a] - n[b]) ** 2, axis=1)  # (E,)
         w = np.exp(-d2 / (2.0 * sigma * sigma))
         acc = n * areas[:, None]  # (F, 3): the triangle itself
@@ -544,7 +559,7 @@ def segment_facets(
     region = _grow_regions(smooth, areas, adj, cos_tol, progress)
     centres = vertices[triangles].mean(axis=1)  # (F, 3)
     min_area = min_area_fraction * float(areas.sum())
-    gap = 0.01 * float(np.linalg.norm(np.ptp(vertices, axis=0)))
+    gap = 0.025 * float(np.linalg.norm(np.ptp(vertices, axis=0)))
     region = _merge_regions(region, smooth, areas, centres, adj, cos_tol, min_area, gap)
     good = region >= 0
     nreg = int(region[good].max()) + 1 if np.any(good) else 0
