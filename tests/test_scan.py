@@ -302,6 +302,18 @@ def test_read_mesh_round_trip_and_refusals(tmp_path):
     ply = tmp_path / "ok.ply"
     trimesh.Trimesh(vertices=v, faces=t, process=False).export(ply)
     assert len(read_mesh(ply).faces) == len(t)
+    obj = tmp_path / "ok.obj"
+    trimesh.Trimesh(vertices=v, faces=t, process=False).export(obj)
+    assert len(read_mesh(obj).faces) == len(t)
+    # quads in an OBJ are split into triangles: a unit cube of six squares
+    cube = tmp_path / "cube.obj"
+    cube.write_text("\n".join(
+        [f"v {x} {y} {z}" for x in (0, 1) for y in (0, 1) for z in (0, 1)]
+        + ["f 1 2 4 3", "f 5 7 8 6", "f 1 5 6 2", "f 3 4 8 7", "f 1 3 7 5", "f 2 6 8 4"])
+        + "\n")
+    quads = read_mesh(cube)
+    assert len(quads.faces) == 12 and quads.area == pytest.approx(6.0)
+    assert quads.volume == pytest.approx(1.0)  # wound outward
 
     holed = tmp_path / "holed.stl"
     trimesh.Trimesh(vertices=v, faces=t[1:], process=False).export(holed)
