@@ -316,6 +316,13 @@ def read_mesh(path: str | os.PathLike[str]) -> Any:
         surface with holes (naming the number of boundary edges), or a mesh with no area.
     MissingDependencyError
         If trimesh is not installed.
+
+    Examples
+    --------
+    >>> read_mesh("no-such-scan.stl")
+    Traceback (most recent call last):
+    ...
+    habit.errors.FileFormatError: no-such-scan.stl: no such file.
     """
     p = Path(path)
     suffix = p.suffix.lower()
@@ -747,6 +754,14 @@ def scan_facets(mesh: Any, *, angle_deg: float = 10.0, min_area_fraction: float 
     Returns
     -------
     ScanFacets
+
+    Examples
+    --------
+    >>> from habit.polyhedron import Polyhedron
+    >>> cube = Polyhedron.from_halfspaces(np.vstack([np.eye(3), -np.eye(3)]), np.ones(6))
+    >>> facets = scan_facets(synthetic_scan(cube, spacing=0.25, noise=0.002, rng=1))
+    >>> facets.n_facets, facets.names[:2]
+    (6, ('F1', 'F2'))
     """
     labels = segment_facets(mesh, angle_deg=angle_deg, min_area_fraction=min_area_fraction,
                             progress=progress)
@@ -773,6 +788,14 @@ def scan_to_measurements(facets: ScanFacets, *, specimen: str = "", source: str 
     ------
     InputError
         If there are no facets.
+
+    Examples
+    --------
+    >>> from habit.polyhedron import Polyhedron
+    >>> cube = Polyhedron.from_halfspaces(np.vstack([np.eye(3), -np.eye(3)]), np.ones(6))
+    >>> m = scan_to_measurements(scan_facets(synthetic_scan(cube, spacing=0.25)))
+    >>> m.kind, m.n_faces, m.labels[0]
+    ('normals', 6, 'F1')
     """
     if facets.n_facets == 0:
         raise InputError("the scan has no facets; lower min_area_fraction or raise the "
