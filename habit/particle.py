@@ -54,6 +54,7 @@ from numpy.typing import ArrayLike
 
 from habit._typing import FloatArray, IntArray
 from habit.errors import EmptyPolyhedronError, InputError, OpenShapeError
+from habit.polyhedron import Polyhedron
 
 __all__ = [
     "SITE_KINDS",
@@ -196,28 +197,24 @@ class ShapeGeometry:
     upper: FloatArray
 
 
-def _extent(normals: FloatArray, distances: FloatArray, directions: FloatArray) -> FloatArray:
-    """Maximum of ``u . x`` over the shape for each row ``u`` of ``directions``."""
-    from scipy.optimize import linprog
-
-    out = np.empty(len(directions))
-    for k, u in enumerate(directions):
-        res = linprog(-u, A_ub=normals, b_ub=distances, bounds=[(None, None)] * 3, method="highs")
-        if res.status == 3:
-            raise OpenShapeError(
-                "the planes do not enclose a bounded solid: it is open along "
-                f"({u[0]:.3f}, {u[1]:.3f}, {u[2]:.3f}); add faces whose normals point "
-                "that way.",
-                direction=tuple(float(x) for x in u),
-            )
-        if res.status != 0:
-            raise EmptyPolyhedronError("the planes enclose no volume.")
-        out[k] = -res.fun
-    return out
+def _polyhedron(normals: FloatArray, distances: FloatArray) -> Polyhedron:
+    """The solid ``n . x <= d`` (unit normals, distances in Å, all positive)."""
+    try:
+        return Polyhedron.from_halfspaces(normals, distances)
+    except OpenShapeError as exc:
+        u = exc.direction if exc.direction is not None else (0.0, 0.0, 1.0)
+        raise OpenShapeError(
+            "the planes do not enclose a bounded solid: it is open along "
+            f"({u[0]:.3f}, {u[1]:.3f}, {u[2]:.3f}); add faces whose normals point "
+            "that way.",
+            direction=u,
+        ) from None
 
 
 def shape_geometry(normals: ArrayLike, distances: ArrayLike) -> ShapeGeometry:
     """Vertices, volume, edge lengths and extent of the shape ``n . x <= d``.
+
+    The half-space step is :meth:`habit.polyhedron.Polyhedron.from_halfspaces`.
 
     Parameters
     ----------
@@ -239,32 +236,16 @@ def shape_geometry(normals: ArrayLike, distances: ArrayLike) -> ShapeGeometry:
     >>> round(g.volume, 9), round(float(g.edge_lengths.max()), 9)
     (8.0, 2.0)
     """
-    from scipy.spatial import ConvexHull, HalfspaceIntersection
-
     n, d = _check_planes(normals, distances)
-    axes = np.vstack([np.eye(3), -np.eye(3)])
-    ext = _extent(n, d, axes)
-    upper, lower = ext[:3], -ext[3:]
-    hs = HalfspaceIntersection(np.hstack([n, -d[:, None]]), np.zeros(3))
-    pts = hs.intersections
-    scale = float(np.max(np.abs(pts)))
-    key = np.round(pts / (scale * 1e-9)).astype(np.int64)
-    _, first = np.unique(key, axis=0, return_index=True)
-    vertices = pts[np.sort(first)]
-    volume = float(ConvexHull(vertices).volume)
-    # an edge joins two vertices that share at least two active planes
-    _, keep = np.unique(
-        np.round(np.hstack([n, d[:, None] / scale]), 9), axis=0, return_index=True
-    )  # drop repeated planes
-    n, d = n[keep], d[keep]
-    active = np.abs(vertices @ n.T - d) <= 1e-7 * scale  # (V, N)
-    shared = active.astype(np.int64) @ active.T.astype(np.int64)  # (V, V)
-    # two faces of a convex solid meet in one edge at most, so two vertices lying on
-    # two common planes are the two ends of an edge
-    iu, ju = np.nonzero(np.triu(shared >= 2, k=1))
-    lengths = np.linalg.norm(vertices[iu] - vertices[ju], axis=1)
+    poly = _polyhedron(n, d)
+    vertices = np.array(poly.vertices)
+    # the maximum of a linear function over a convex solid is reached at a vertex
     return ShapeGeometry(
-        _frozen(vertices), volume, _frozen(lengths), _frozen(lower), _frozen(upper)
+        _frozen(vertices),
+        float(poly.volume),
+        _frozen(poly.edge_lengths),
+        _frozen(vertices.min(axis=0)),
+        _frozen(vertices.max(axis=0)),
     )
 
 
@@ -434,8 +415,9 @@ def carve(
     lat, frac = _reduced(lat, frac)
     u = frac - c_cart @ np.linalg.inv(lat)  # (S, 3) site offsets from the centre, fractional
     recip = np.asarray(np.linalg.inv(lat).T, dtype=np.float64)  # rows a*, b*, c*
-    hi = _extent(n, d + 2 * eps, recip)  # max of fractional coordinate j over the shape
-    lo = -_extent(n, d + 2 * eps, -recip)
+    frac_vertices = _polyhedron(n, d + 2 * eps).vertices @ recip.T  # (V, 3)
+    # the extremes of each fractional coordinate over the shape are reached at vertices
+    hi, lo = frac_vertices.max(axis=0), frac_vertices.min(axis=0)
     t_lo = np.floor(lo - u.max(axis=0)).astype(int) - 1
     t_hi = np.ceil(hi - u.min(axis=0)).astype(int) + 1
     t0 = np.arange(t_lo[0], t_hi[0] + 1)
