@@ -21,6 +21,8 @@ __all__ = [
     "progress_bar",
     "deg_min",
     "to_jsonable",
+    "parse_assignments",
+    "parse_form_options",
 ]
 
 
@@ -191,6 +193,59 @@ def resolve_crystal(
         *values, crystal_class=crystal_class, space_group=sg, name="inline cell"
     )
     return crystal, tuple(args)
+
+
+def parse_assignments(
+    texts: tuple[str, ...],
+    option: str,
+    *,
+    metavar: str,
+    example: str,
+    cast: Callable[[str], Any] = float,
+) -> list[tuple[str, Any]]:
+    """Read repeated ``KEY=VALUE`` options (``--form 111=1.0``, ``--radius Cu=1.28`` ...).
+
+    Parameters
+    ----------
+    texts : tuple of str
+        The option's values as typed.
+    option : str
+        The option's name, for the message (``"--form"``).
+    metavar, example : str
+        How the value is written and an example of it, for the message.
+    cast : callable
+        Turns the text after ``=`` into the value; a ``ValueError`` from it is bad input.
+
+    Returns
+    -------
+    list of (str, value)
+        The keys (stripped) and the converted values, in the order given.
+
+    Raises
+    ------
+    InputError
+        For the first value with no ``=`` or whose value ``cast`` refuses.
+    """
+    from habit.errors import InputError
+
+    out = []
+    for text in texts:
+        key, sep, value = text.partition("=")
+        try:
+            if not sep:
+                raise ValueError
+            out.append((key.strip(), cast(value)))
+        except ValueError:
+            raise InputError(f"{option} takes {metavar}, e.g. {example}; got {text!r}.") from None
+    return out
+
+
+def parse_form_options(
+    crystal: Any, texts: tuple[str, ...], *, example: str = "111=1.0"
+) -> list[tuple[tuple[int, int, int], float]]:
+    """Read ``--form HKL=VALUE`` options against a crystal (its Miller-index rules)."""
+    pairs = parse_assignments(texts, "--form", metavar="HKL=VALUE", example=example)
+    return [(crystal.parse_face(key), value) for key, value in pairs]
 
 
 def parse_faces(crystal: Any, texts: tuple[str, ...]) -> list[tuple[int, int, int]]:

@@ -6,29 +6,10 @@ from typing import Any
 
 import click
 
-from habit.cli._common import crystal_options, json_option
+from habit.cli._common import crystal_options, json_option, parse_form_options
 from habit.cli._substrate import substrate_options
 
 KIND_UNITS = {"energy": "J/m²", "distance": "relative", "rate": "relative"}
-
-
-def parse_form_options(
-    crystal: Any, texts: tuple[str, ...]
-) -> list[tuple[tuple[int, int, int], float]]:
-    """Read ``--form HKL=VALUE`` options against a crystal."""
-    from habit.errors import InputError
-
-    out = []
-    for text in texts:
-        key, sep, value = text.partition("=")
-        if not sep:
-            raise InputError(f"--form takes HKL=VALUE, e.g. 111=1.0; got {text!r}.")
-        try:
-            number = float(value)
-        except ValueError:
-            raise InputError(f"the value in --form {text!r} is not a number.") from None
-        out.append((crystal.parse_face(key), number))
-    return out
 
 
 def shape_report(shape: Any) -> dict[str, Any]:
