@@ -22,6 +22,12 @@ _PUBLIC: dict[str, str] = {
     "broken_bond_energies": "habit.bonds",
     "winterbottom_shape": "habit.substrate",
     "make_particle": "habit.particle",
+    "index_faces": "habit.indexing",
+    "read_measurements": "habit.measurements",
+    "solve_shapes": "habit.batch",
+    "shape_map": "habit.batch",
+    "sample_shapes": "habit.batch",
+    "run_batch": "habit.batch",
 }
 
 __all__ = sorted(_PUBLIC)

@@ -31,6 +31,12 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "bfdh": ("habit.cli.bfdh", "Rank forms by the BFDH rule (d_eff in Å) and draw the habit."),
     "bonds": ("habit.cli.bonds", "Broken-bond surface energies of a structure; their Wulff shape."),
     "particle": ("habit.cli.particle", "Carve a particle of atoms by a crystal's shape."),
+    "index": ("habit.cli.index", "Miller indices of measured faces; cell shape from angles."),
+    "orient": ("habit.cli.orient", "Crystal axes in the lab frame from measured faces."),
+    "stereo": ("habit.cli.stereo", "Stereogram of faces and measured poles."),
+    "map": ("habit.cli.map", "Map which forms show over two form values, refined at boundaries."),
+    "sample": ("habit.cli.sample", "Monte Carlo over uncertain form values: odds and intervals."),
+    "batch": ("habit.cli.batch", "Shapes for a folder of crystal files or a CSV of energy sets."),
 }
 
 

@@ -14,7 +14,6 @@ def resolve_shape(spec: str) -> tuple[Any, str]:
     crystal TOML or bundled name) whose Wulff shape is meant.
     """
     from habit.errors import FileFormatError, UnknownSymbolError
-    from habit.polyhedron import Polyhedron
     from habit.solids import reference_polyhedron
 
     try:
