@@ -496,9 +496,9 @@ def test_point_group_results_are_cached():
 
 
 def test_doctests():
-    from habit import forms
+    from habit import forms, spacegroups
 
-    for module in (symmetry, forms):
+    for module in (symmetry, spacegroups, forms):
         result = doctest.testmod(module, optionflags=doctest.ELLIPSIS)
         assert result.attempted > 0 and result.failed == 0, module.__name__
 
