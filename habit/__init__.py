@@ -28,6 +28,8 @@ _PUBLIC: dict[str, str] = {
     "shape_map": "habit.batch",
     "sample_shapes": "habit.batch",
     "run_batch": "habit.batch",
+    "densest_lattice_packing": "habit.packing",
+    "reference_solid": "habit.solids",
 }
 
 __all__ = sorted(_PUBLIC)
