@@ -52,15 +52,12 @@ def atomic_output(path: str | os.PathLike[str], mode: str = "w") -> Iterator[Any
 
 def to_jsonable(value: Any) -> Any:
     """Convert numpy scalars/arrays, tuples and NaN into plain JSON values."""
-    try:
-        import numpy as np
-    except ImportError:  # pragma: no cover - numpy is a core dependency
-        np = None
-    if np is not None:
-        if isinstance(value, np.ndarray):
-            return [to_jsonable(v) for v in value.tolist()]
-        if isinstance(value, np.generic):
-            return to_jsonable(value.item())
+    import numpy as np
+
+    if isinstance(value, np.ndarray):
+        return [to_jsonable(v) for v in value.tolist()]
+    if isinstance(value, np.generic):
+        return to_jsonable(value.item())
     if isinstance(value, dict):
         return {str(k): to_jsonable(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
@@ -118,7 +115,7 @@ def deg_min(angle_deg: float) -> str:
     return f"{sign}{degrees}°{minutes:04.1f}′"
 
 
-class MillerType(click.ParamType):
+class MillerType(click.ParamType):  # type: ignore[type-arg, unused-ignore]
     """A face or form typed as people write it: ``111``, ``1 0 -1 1``, ``(10-11)``, ``{100}``."""
 
     name = "HKL"

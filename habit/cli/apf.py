@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 import click
 
 from habit.cli._common import json_option
@@ -58,8 +60,8 @@ def command(
                 coordination, "--coordination", metavar="ION=CN", example="Ca2+=8", cast=int
             )
         )
-    result = atomic_packing_fraction(xtal.structure, radii=radii, coordination=cn)  # type: ignore[arg-type]
-    sites = [
+    result = atomic_packing_fraction(xtal.structure, radii=radii, coordination=cn)
+    sites: list[dict[str, Any]] = [
         {
             "site": i,
             "species": label,

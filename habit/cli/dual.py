@@ -36,7 +36,7 @@ def command(
 
     _check_outputs(plot_path, export_path)
     poly, what = resolve_shape(shape)
-    result = poly.dual(scale=None if scale == "none" else scale)  # type: ignore[arg-type]
+    result = poly.dual(scale=None if scale == "none" else scale)
     dual = result.polyhedron
     original, reciprocal = describe(poly), describe(dual)
     pairs = []
