@@ -23,6 +23,8 @@ __all__ = [
     "to_jsonable",
     "parse_assignments",
     "parse_form_options",
+    "check_outputs",
+    "write_solid",
 ]
 
 
@@ -243,6 +245,29 @@ def parse_form_options(
     """Read ``--form HKL=VALUE`` options against a crystal (its Miller-index rules)."""
     pairs = parse_assignments(texts, "--form", metavar="HKL=VALUE", example=example)
     return [(crystal.parse_face(key), value) for key, value in pairs]
+
+
+#: File types the commands draw (--plot) and export solids to (--export).
+PLOT_SUFFIXES = (".png", ".svg", ".pdf")
+SOLID_SUFFIXES = (".stl", ".obj", ".json")
+
+
+def check_outputs(plot_path: str | None, export_path: str | None) -> None:
+    """Refuse a --plot or --export file of a type that cannot be written, before any work."""
+    from habit.errors import InputError
+
+    if plot_path and Path(plot_path).suffix.lower() not in PLOT_SUFFIXES:
+        raise InputError(f"--plot writes .png, .svg or .pdf; got {plot_path!r}.")
+    if export_path and Path(export_path).suffix.lower() not in SOLID_SUFFIXES:
+        raise InputError(f"--export writes .stl, .obj or .json; got {export_path!r}.")
+
+
+def write_solid(poly: Any, path: str | os.PathLike[str]) -> None:
+    """Write a polyhedron as STL, OBJ or JSON, by the file's suffix."""
+    from habit import io
+
+    writer = {".stl": io.write_stl, ".obj": io.write_obj, ".json": io.write_polyhedron_json}
+    writer[Path(path).suffix.lower()](poly, path)
 
 
 def parse_faces(crystal: Any, texts: tuple[str, ...]) -> list[tuple[int, int, int]]:

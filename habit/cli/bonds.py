@@ -110,12 +110,17 @@ def command(
     import sys
 
     from habit.bonds import broken_bond_energies, find_bonds
-    from habit.cli._common import crystal_header, crystal_json, progress_bar, write_json
-    from habit.cli.wulff import _check_outputs
+    from habit.cli._common import (
+        check_outputs,
+        crystal_header,
+        crystal_json,
+        progress_bar,
+        write_json,
+    )
     from habit.crystal import load_crystal
     from habit.morphology import form_representatives
 
-    _check_outputs(plot_path, None)
+    check_outputs(plot_path, None)
     xtal = load_crystal(crystal)
     pairs = _pair_values(pair_cutoffs, "--pair-cutoff", "Å") if pair_cutoffs else None
     energies = _pair_values(bond_energies, "--bond-energy", "eV") if bond_energies else None

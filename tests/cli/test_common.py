@@ -63,3 +63,25 @@ def test_commands_refuse_bad_assignments_in_one_line(runner, args, fragment) -> 
     assert fragment in result.output
     assert "Traceback" not in result.output
     assert len(result.output.strip().splitlines()) == 1
+
+
+@pytest.mark.parametrize(
+    ("args", "fragment"),
+    [
+        (["wulff", "copper", "--plot", "shape.txt"], "--plot writes .png, .svg or .pdf"),
+        (["bfdh", "copper", "--export", "shape.ply"], "--export writes .stl, .obj or .json"),
+        (["bonds", "copper", "--plot", "shape.gif"], "--plot writes .png, .svg or .pdf"),
+        (["dual", "cube", "--export", "dual.wrl"], "--export writes .stl, .obj or .json"),
+        (["pack", "cube", "--plot", "pack.eps"], "--plot writes .png, .svg or .pdf"),
+    ],
+    ids=["wulff", "bfdh", "bonds", "dual", "pack"],
+)
+def test_unwritable_file_types_are_refused_before_any_work(
+    runner, tmp_path, monkeypatch, args, fragment
+) -> None:
+    monkeypatch.chdir(tmp_path)
+    result = runner.invoke(main, args)
+    assert result.exit_code != 0
+    assert fragment in result.output
+    assert len(result.output.strip().splitlines()) == 1
+    assert list(tmp_path.iterdir()) == []  # nothing written
