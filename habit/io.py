@@ -14,11 +14,9 @@ References
 
 from __future__ import annotations
 
-import contextlib
 import json
 import math
 import os
-import tempfile
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -65,23 +63,12 @@ def atomic_write(path: str | os.PathLike[str], data: bytes | str) -> Path:
     FileFormatError
         The folder does not exist or the file cannot be written.
     """
+    from habit._files import replacing
+
     target = Path(path)
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise FileFormatError(f"cannot write {target}: folder {folder} does not exist.")
     raw = data.encode("utf-8") if isinstance(data, str) else data
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
-    except OSError as exc:
-        raise FileFormatError(f"cannot write {target}: {exc.strerror}.") from None
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            handle.write(raw)
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise
+    with replacing(target) as tmp:
+        tmp.write_bytes(raw)
     return target
 
 

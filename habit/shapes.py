@@ -120,7 +120,30 @@ NAMED_SOLIDS: tuple[_T, ...] = (
     _row("diploid", (26, 48, 24), {4: 24}, "Th"),
     _row("gyroid", (38, 60, 24), {5: 24}, "O"),
     _row("hexoctahedron", (26, 72, 48), {3: 48}, "Oh"),
+    # the remaining Archimedean solids and the icosahedral Catalan solids (their duals);
+    # counts from Wenninger, Polyhedron Models (1971) and Dual Models (1983), from memory
+    _row("rhombicuboctahedron", (24, 48, 26), {3: 8, 4: 18}, "Oh"),
+    _row("truncated cuboctahedron", (48, 72, 26), {4: 12, 6: 8, 8: 6}, "Oh"),
+    _row("snub cube", (24, 60, 38), {3: 32, 4: 6}, "O"),
+    _row("icosidodecahedron", (30, 60, 32), {3: 20, 5: 12}, "Ih"),
+    _row("truncated dodecahedron", (60, 90, 32), {3: 20, 10: 12}, "Ih"),
+    _row("truncated icosahedron", (60, 90, 32), {5: 12, 6: 20}, "Ih"),
+    _row("rhombicosidodecahedron", (60, 120, 62), {3: 20, 4: 30, 5: 12}, "Ih"),
+    _row("truncated icosidodecahedron", (120, 180, 62), {4: 30, 6: 20, 10: 12}, "Ih"),
+    _row("snub dodecahedron", (60, 150, 92), {3: 80, 5: 12}, "I"),
+    _row("rhombic triacontahedron", (32, 60, 30), {4: 30}, "Ih"),
+    _row("triakis icosahedron", (32, 90, 60), {3: 60}, "Ih", {3: 20, 10: 12}),
+    _row("pentakis dodecahedron", (32, 90, 60), {3: 60}, "Ih", {5: 12, 6: 20}),
+    _row("deltoidal hexecontahedron", (62, 120, 60), {4: 60}, "Ih"),
+    _row("disdyakis triacontahedron", (62, 180, 120), {3: 120}, "Ih"),
+    _row("pentagonal hexecontahedron", (92, 150, 60), {5: 60}, "I"),
 )
+
+
+#: Names given only when all edges are equal: the same combinatorial type with unequal
+#: edges is an ordinary combination of crystal forms (e.g. cube + rhombic dodecahedron +
+#: octahedron has the type of the truncated cuboctahedron) and is named by its forms.
+_EQUAL_EDGES_ONLY = frozenset({"rhombicuboctahedron", "truncated cuboctahedron", "snub cube"})
 
 
 def forms_name(
@@ -136,6 +159,13 @@ def forms_name(
         Name of each form id. Default: ``poly.form_labels``, else ``"form <id>"``.
     """
     names = form_names if form_names is not None else poly.form_labels
+    if names is None and poly.n_forms >= poly.n_faces:  # every face its own form
+        sizes = {3: "triangles", 4: "quadrilaterals", 5: "pentagons", 6: "hexagons"}
+        counts = np.bincount(poly.face_sizes)
+        parts = [
+            f"{int(c)} {sizes.get(k, f'{k}-gons')}" for k, c in enumerate(counts) if c and k
+        ]
+        return f"polyhedron of {poly.n_faces} faces ({', '.join(parts)})"
     area = poly.area_by_form
     present = [int(i) for i in np.argsort(-area, kind="stable") if area[i] > 0]
 
@@ -196,5 +226,9 @@ def shape_name(
             and (deg is None or deg == degrees)
             and sym.schoenflies in groups
         ):
+            if name in _EQUAL_EDGES_ONLY:
+                lengths = poly.edge_lengths
+                if np.ptp(lengths) > 1e-6 * lengths.max():
+                    continue
             return name
     return forms_name(poly, form_names)

@@ -26,6 +26,7 @@ __all__ = [
     "PLATONIC",
     "ARCHIMEDEAN",
     "SPACE_FILLERS",
+    "CATALAN",
     "solid_names",
     "reference_solid",
     "reference_polyhedron",
@@ -59,6 +60,25 @@ SPACE_FILLERS: tuple[str, ...] = (
     "elongated dodecahedron",
 )
 _OTHER: tuple[str, ...] = ("rhombic dodecahedron", "hexagonal prism", "elongated dodecahedron")
+
+#: The Catalan solids, each the dual of the Archimedean solid it maps to (Catalan 1865;
+#: names as in Wenninger, Dual Models, 1983 — from memory). They are made by polar
+#: reciprocation of that solid in its midsphere.
+CATALAN: dict[str, str] = {
+    "triakis tetrahedron": "truncated tetrahedron",
+    "rhombic dodecahedron": "cuboctahedron",
+    "triakis octahedron": "truncated cube",
+    "tetrakis hexahedron": "truncated octahedron",
+    "deltoidal icositetrahedron": "rhombicuboctahedron",
+    "disdyakis dodecahedron": "truncated cuboctahedron",
+    "pentagonal icositetrahedron": "snub cube",
+    "rhombic triacontahedron": "icosidodecahedron",
+    "triakis icosahedron": "truncated dodecahedron",
+    "pentakis dodecahedron": "truncated icosahedron",
+    "deltoidal hexecontahedron": "rhombicosidodecahedron",
+    "disdyakis triacontahedron": "truncated icosidodecahedron",
+    "pentagonal hexecontahedron": "snub dodecahedron",
+}
 
 _ALIASES = {
     "regulartetrahedron": "tetrahedron",
@@ -107,8 +127,11 @@ def _canonical(name: str) -> str:
     table = {_key(n): n for n in solid_names()}
     table.update(_ALIASES)
     if k not in table:
+        catalan = sorted(set(CATALAN) - set(solid_names()))
         raise UnknownSymbolError(
-            f"unknown solid {name!r}; valid names are: " + ", ".join(solid_names()) + "."
+            f"unknown solid {name!r}; valid names are: "
+            + ", ".join(solid_names() + tuple(catalan))
+            + "."
         )
     return table[k]
 
@@ -369,13 +392,18 @@ def reference_polyhedron(name: str) -> Any:
     Parameters
     ----------
     name : str
-        As for :func:`reference_solid`.
+        As for :func:`reference_solid`, or one of the Catalan solids (:data:`CATALAN`),
+        made as the dual of its Archimedean solid in the midsphere.
 
     Returns
     -------
     Polyhedron
         Built with ``Polyhedron.from_vertices``.
     """
-    from habit.polyhedron import Polyhedron  # lands from another branch
+    from habit.polyhedron import Polyhedron
 
+    catalan = {_key(n): arch for n, arch in CATALAN.items() if n not in solid_names()}
+    if isinstance(name, str) and _key(name) in catalan:
+        archimedean = Polyhedron.from_vertices(reference_solid(catalan[_key(name)]))
+        return archimedean.dual(scale="midsphere").polyhedron
     return Polyhedron.from_vertices(reference_solid(name))

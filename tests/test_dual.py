@@ -54,3 +54,41 @@ def test_dual_of_dual_is_the_original(solid):
     d = np.linalg.norm(twice.vertices[:, None, :] - poly.vertices[None, :, :], axis=-1)
     assert np.allclose(d.min(axis=1), 0.0, atol=1e-9 * poly.circumradius)
     assert twice.n_faces == poly.n_faces
+
+
+# --- Catalan solids by name: duals of the Archimedean solids --------------------------------
+from habit.solids import ARCHIMEDEAN, CATALAN  # noqa: E402
+
+# (V, E, F) of each Catalan solid = (F, E, V) of its Archimedean dual (Euler; Wenninger,
+# Dual Models, 1983, from memory for the names)
+ARCH_VEF = {
+    "truncated tetrahedron": (12, 18, 8),
+    "cuboctahedron": (12, 24, 14),
+    "truncated cube": (24, 36, 14),
+    "truncated octahedron": (24, 36, 14),
+    "rhombicuboctahedron": (24, 48, 26),
+    "truncated cuboctahedron": (48, 72, 26),
+    "snub cube": (24, 60, 38),
+    "icosidodecahedron": (30, 60, 32),
+    "truncated dodecahedron": (60, 90, 32),
+    "truncated icosahedron": (60, 90, 32),
+    "rhombicosidodecahedron": (60, 120, 62),
+    "truncated icosidodecahedron": (120, 180, 62),
+    "snub dodecahedron": (60, 150, 92),
+}
+
+
+@pytest.mark.parametrize("name", sorted(CATALAN))
+def test_catalan_solids_by_name(name):
+    poly = reference_polyhedron(name)
+    v, e, f = ARCH_VEF[CATALAN[name]]
+    assert (poly.n_vertices, poly.n_edges, poly.n_faces) == (f, e, v)
+    # a Catalan solid has all its faces tangent to one sphere (insphere): equal distances
+    assert np.ptp(poly.distances) < 1e-9 * poly.distances.max()
+
+
+@pytest.mark.parametrize("name", ARCHIMEDEAN)
+def test_archimedean_solids_are_named(name):
+    poly = reference_polyhedron(name)
+    assert (poly.n_vertices, poly.n_edges, poly.n_faces) == ARCH_VEF[name]
+    assert shape_name(poly) == name

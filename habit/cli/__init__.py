@@ -13,6 +13,8 @@ from typing import Any
 
 import click
 
+from habit import __version__
+
 __all__ = ["main", "COMMANDS"]
 
 #: command name -> (module, one-line help shown by ``habit --help``)
@@ -74,7 +76,7 @@ class _LazyGroup(click.Group):
 
 @click.group(cls=_LazyGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.option("-T", "--traceback", is_flag=True, help="Show the full stack on errors.")
-@click.version_option(package_name="habit")
+@click.version_option(version=__version__, prog_name="habit")
 @click.pass_context
 def main(ctx: click.Context, traceback: bool) -> None:
     """Habit: crystal shapes with every face indexed.

@@ -7,7 +7,6 @@ import json
 import math
 import os
 import sys
-import tempfile
 from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any
@@ -35,21 +34,10 @@ def atomic_output(path: str | os.PathLike[str], mode: str = "w") -> Iterator[Any
     Nothing half-written is ever left at ``path``: on any exception the temporary file is
     removed and the exception propagates.
     """
-    target = Path(path)
-    directory = target.parent if str(target.parent) else Path(".")
-    if not directory.is_dir():
-        from habit.errors import FileFormatError
+    from habit._files import replacing
 
-        raise FileFormatError(f"cannot write {target}: folder {directory} does not exist.")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=directory)
-    try:
-        with os.fdopen(fd, mode) as handle:
-            yield handle
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise
+    with replacing(path) as tmp, open(tmp, mode) as handle:
+        yield handle
 
 
 def to_jsonable(value: Any) -> Any:
@@ -301,3 +289,30 @@ def crystal_json(crystal: Any) -> dict[str, Any]:
         "cell": {"a_A": a, "b_A": b, "c_A": c, "alpha_deg": al, "beta_deg": be, "gamma_deg": ga},
         "source": crystal.source,
     }
+
+
+def kind_options(func: Callable[..., Any]) -> Callable[..., Any]:
+    """Add ``--energies``, ``--distances`` and ``--rates``; the command gets ``kind``.
+
+    ``kind`` is ``'energy'``, ``'distance'``, ``'rate'`` or None (use the crystal file's
+    kind). Giving more than one of the three is refused with one sentence.
+    """
+    import functools
+
+    @functools.wraps(func)
+    def wrapper(
+        *args: Any, energies_flag: bool, distances_flag: bool, rates_flag: bool, **kwargs: Any
+    ) -> Any:
+        flags = (("energy", energies_flag), ("distance", distances_flag), ("rate", rates_flag))
+        chosen = [kind for kind, on in flags if on]
+        if len(chosen) > 1:
+            raise click.UsageError("give only one of --energies, --distances and --rates.")
+        return func(*args, kind=chosen[0] if chosen else None, **kwargs)
+
+    for name, text in (
+        ("rates", "Values are growth rates (the kinetic shape), relative."),
+        ("distances", "Values are central distances (a habit drawing), relative."),
+        ("energies", "Values are surface energies, J/m² (the equilibrium shape)."),
+    ):
+        wrapper = click.option(f"--{name}", f"{name}_flag", is_flag=True, help=text)(wrapper)
+    return wrapper

@@ -41,8 +41,13 @@ def command(out_dir: str) -> None:
     shape = wulff_shape(crystal)
     report = shape_report(shape)
     report["crystal"] = crystal_json(crystal)
+    from habit.errors import FileFormatError
+
     out = Path(out_dir)
-    out.mkdir(parents=True, exist_ok=True)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise FileFormatError(f"cannot make the folder {out}: {exc.strerror}.") from None
     buffer = textio.StringIO()
     with contextlib.redirect_stdout(buffer):
         print_report(report, crystal_header(crystal))

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from habit.cli._common import crystal_options, json_option
+from habit.cli._common import crystal_options, json_option, kind_options
 from habit.cli._scale import execution_options
 
 
@@ -24,8 +24,7 @@ from habit.cli._scale import execution_options
 @click.option(
     "--levels", default=3, show_default=True, help="Refinements near boundaries (0: plain grid)."
 )
-@click.option("--distances", "kind", flag_value="distance", help="Values are central distances.")
-@click.option("--rates", "kind", flag_value="rate", help="Values are growth rates.")
+@kind_options
 @click.option("--csv", "csv_path", metavar="PATH", help="Write the computed points as CSV.")
 @click.option("--plot", "plot_path", metavar="FILE", help="Draw the region map (.png/.svg).")
 @click.option(

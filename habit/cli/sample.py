@@ -6,7 +6,7 @@ from typing import Any
 
 import click
 
-from habit.cli._common import crystal_options, json_option
+from habit.cli._common import crystal_options, json_option, kind_options
 from habit.cli._scale import execution_options
 
 
@@ -52,8 +52,7 @@ from habit.cli._scale import execution_options
 @click.option("--per-face", is_flag=True, help="Draw every face on its own (breaks symmetry).")
 @click.option("--seed", type=int, default=None, help="Seed: the same seed gives the same numbers.")
 @click.option("--level", default=0.95, show_default=True, help="Confidence level of intervals.")
-@click.option("--distances", "kind", flag_value="distance", help="Values are central distances.")
-@click.option("--rates", "kind", flag_value="rate", help="Values are growth rates.")
+@kind_options
 @click.option("--csv", "csv_path", metavar="PATH", help="Write every draw as CSV.")
 @click.option("--plot", "plot_path", metavar="FILE", help="Histograms with intervals (.png).")
 @execution_options

@@ -53,7 +53,6 @@ def command(
     import numpy as np
 
     from habit.cli._common import (
-        atomic_output,
         crystal_header,
         crystal_json,
         parse_faces,
@@ -65,8 +64,8 @@ def command(
     from habit.stereo import project, vectors_to_phi_rho
 
     suffix = Path(plot_path).suffix.lower()
-    if suffix not in (".png", ".svg"):
-        raise InputError(f"--plot must end in .png or .svg; got {plot_path!r}.")
+    if suffix not in (".png", ".svg", ".pdf"):
+        raise InputError(f"--plot must end in .png, .svg or .pdf; got {plot_path!r}.")
     crystal, rest = resolve_crystal(args, cell, crystal_class, space_group)
     if rest:
         forms = parse_faces(crystal, rest)
@@ -111,23 +110,15 @@ def command(
             poles = np.asarray(crystal.normals(hkl), dtype=float)
             labels += [crystal.format_face(h) for h in extra]
 
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
+    from habit.plot import save_figure
     from habit.plot.stereo import plot_stereogram
 
-    fig, ax = plt.subplots(figsize=(6.5, 6.5))
     title = f"{crystal.name or 'crystal'} — " + (
         "Wulff net (equal-angle)" if net == "wulff" else "Schmidt net (equal-area)")
-    plot_stereogram(poles, labels, ax, net=net, draw_net=not no_net, zones=zone_axes,
-                    measured=meas_c, measured_labels=meas_labels, title=title)
-    try:
-        with atomic_output(plot_path, "wb") as handle:
-            fig.savefig(handle, format=suffix[1:], dpi=150, bbox_inches="tight")
-    finally:
-        plt.close(fig)
+    artists = plot_stereogram(poles, labels, None, net=net, draw_net=not no_net,
+                              zones=zone_axes, measured=meas_c, measured_labels=meas_labels,
+                              title=title)
+    save_figure(artists[0].axes.figure, plot_path)
 
     pts, upper = project(poles, net)
     phi, rho = vectors_to_phi_rho(poles)

@@ -7,7 +7,13 @@ from typing import Any
 import click
 
 from habit.cli._common import check_outputs as _check_outputs
-from habit.cli._common import crystal_options, json_option, parse_form_options, write_solid
+from habit.cli._common import (
+    crystal_options,
+    json_option,
+    kind_options,
+    parse_form_options,
+    write_solid,
+)
 from habit.cli._substrate import substrate_options
 
 KIND_UNITS = {"energy": "J/m²", "distance": "relative", "rate": "relative"}
@@ -100,9 +106,7 @@ def print_report(report: dict[str, Any], crystal_line: str) -> None:
     help="A form and its value, e.g. --form 111=1.0 --form 100=1.15 (replaces the "
     "crystal file's forms).",
 )
-@click.option("--energies", "kind", flag_value="energy", help="Values are surface energies, J/m².")
-@click.option("--distances", "kind", flag_value="distance", help="Values are central distances.")
-@click.option("--rates", "kind", flag_value="rate", help="Values are growth rates (kinetic shape).")
+@kind_options
 @click.option("--plot", "plot_path", metavar="FILE", help="Draw the shape (.png or .svg).")
 @click.option(
     "--view", metavar="AZIM,ELEV", help="View direction in degrees (default clinographic)."

@@ -38,9 +38,9 @@ def save_figure(fig: Any, path: str | os.PathLike[str], *, dpi: float = 200.0) -
     FileFormatError
         Unknown suffix or missing folder.
     """
-    import contextlib
-    import tempfile
+    import sys
 
+    from habit._files import replacing
     from habit.errors import FileFormatError
 
     target = Path(path)
@@ -49,20 +49,8 @@ def save_figure(fig: Any, path: str | os.PathLike[str], *, dpi: float = 200.0) -
         raise FileFormatError(
             f"cannot save a figure as {target.name!r}: use a .png, .svg or .pdf file name."
         )
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise FileFormatError(f"cannot write {target}: folder {folder} does not exist.")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
-    os.close(fd)
-    try:
+    with replacing(target) as tmp:
         fig.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight")
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise
-    import sys
-
     pyplot = sys.modules.get("matplotlib.pyplot")
     if pyplot is not None:  # figures made through pyplot are registered there; free them
         pyplot.close(fig)

@@ -111,7 +111,7 @@ def test_bad_input_gives_one_line_and_no_file(runner, tmp_path):
     assert result.exit_code == 1
     assert result.output.strip().count("\n") == 0
     assert "rho 200 degrees is out of range" in result.output
-    out = tmp_path / "x.pdf"
+    out = tmp_path / "x.bmp"  # not a figure format
     result = runner.invoke(main, ["stereo", *RUTILE_CELL, "--plot", str(out)])
     assert result.exit_code == 1 and not out.exists()
     result = runner.invoke(main, ["orient", *RUTILE_CELL, QUARTZ_TABLE])
