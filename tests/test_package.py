@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import importlib
+import pkgutil
 import subprocess
 import sys
 from pathlib import Path
@@ -52,3 +54,20 @@ def test_import_habit_loads_no_heavy_library() -> None:
         cwd=Path(__file__).resolve().parents[1],
     )
     assert out.stdout.strip() == "[]"
+
+
+LIBRARY_MODULES = sorted(
+    m.name
+    for m in pkgutil.walk_packages(habit.__path__, "habit.")
+    if not m.name.startswith("habit.cli") and m.name != "habit.__main__"
+)
+
+
+@pytest.mark.parametrize("name", LIBRARY_MODULES)
+def test_library_modules_declare_names_that_resolve(name: str) -> None:
+    # re-exports (habit.symmetry from habit.spacegroups, habit.particle from its private
+    # modules) must keep every listed name importable
+    module = importlib.import_module(name)
+    assert isinstance(module.__all__, list | tuple)
+    missing = [n for n in module.__all__ if not hasattr(module, n)]
+    assert missing == []
