@@ -152,7 +152,9 @@ def _polyhedron(normals: FloatArray, distances: FloatArray) -> Polyhedron:
     try:
         return Polyhedron.from_halfspaces(normals, distances)
     except OpenShapeError as exc:
-        u = exc.direction if exc.direction is not None else (0.0, 0.0, 1.0)
+        if exc.direction is None:
+            raise
+        u = exc.direction
         raise OpenShapeError(
             "the planes do not enclose a bounded solid: it is open along "
             f"({u[0]:.3f}, {u[1]:.3f}, {u[2]:.3f}); add faces whose normals point "
