@@ -447,7 +447,10 @@ class Crystal:
 
         from habit import symmetry
 
-        cell = tuple(float(x) for x in (*structure.lattice.abc, *structure.lattice.angles))
+        # rounded to 1e-10 so that 120° stays 120° after pymatgen's own arithmetic
+        cell = tuple(
+            round(float(x), 10) for x in (*structure.lattice.abc, *structure.lattice.angles)
+        )
         lattice = geometry.cell_to_lattice(*cell)
         frac = np.asarray(structure.frac_coords, dtype=float)
         species = [site.species for site in structure]
@@ -651,7 +654,12 @@ class Crystal:
 
 def _check_hkl(hkl: ArrayLike) -> IntArray:
     from habit.errors import InvalidMillerIndexError
+    from habit.miller import parse_hkl
 
+    if isinstance(hkl, str):  # a face typed as people write it: '10-11', '(111)'
+        hkl = parse_hkl(hkl)
+    elif isinstance(hkl, (list, tuple)) and hkl and all(isinstance(h, str) for h in hkl):
+        hkl = [parse_hkl(h) for h in hkl]
     arr = np.asarray(hkl)
     if arr.shape[-1:] != (3,):
         raise InvalidMillerIndexError(

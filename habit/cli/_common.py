@@ -82,8 +82,12 @@ def json_option(func: Callable[..., Any]) -> Callable[..., Any]:
 def progress_bar(total: int, label: str) -> Iterator[Callable[[int], None]]:
     """Yield a callback ``update(done)`` that draws a progress bar on standard error.
 
-    The library reports progress through such callbacks; only the CLI draws.
+    The library reports progress through such callbacks; only the CLI draws. Nothing is
+    drawn when standard error is not a terminal (a pipe, a log file, a test).
     """
+    if not sys.stderr.isatty():
+        yield lambda done: None
+        return
     with click.progressbar(length=total, label=label, file=sys.stderr) as bar:
         state = {"done": 0}
 

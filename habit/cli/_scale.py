@@ -66,9 +66,14 @@ def parse_range(text: str, option: str) -> tuple[str, float, float]:
     try:
         if not (sep and sep2):
             raise ValueError
-        return form.strip(), float(low), float(high)
+        lo, hi = float(low), float(high)
     except ValueError:
         raise InputError(f"{option} takes FORM=LOW:HIGH, e.g. 110=0.6:1.5; got {text!r}.") from None
+    if not (0 < lo < hi < float("inf")):
+        raise InputError(
+            f"{option} needs 0 < LOW < HIGH (positive values, low first); got {lo:g} and {hi:g}."
+        )
+    return form.strip(), lo, hi
 
 
 def value_unit(kind: str) -> str:

@@ -89,11 +89,11 @@ def command(
             f"({result.fraction * 100:.2f} % of the cell), {result.radius_source} radii, "
             f"cell volume {result.cell_volume:.3f} Å³"
         )
-        click.echo(f"\n{'site':>4}  {'species':<8}{'radius (Å)':>11}{'CN':>4}{'share (%)':>11}")
+        click.echo(f"\n{'site':>4}  {'species':<8}{'radius (Å)':>11}{'CN':>4}{'share of cell (%)':>19}")
         for s in sites:
             click.echo(
                 f"{s['site']:>4}  {s['species']:<8}{s['radius_A']:>11.4f}{s['coordination']:>4}"
-                f"{s['fraction'] * 100:>11.3f}"
+                f"{s['fraction'] * 100:>19.3f}"
             )
         if overlaps:
             worst = max(o["radius_sum_A"] - o["distance_A"] for o in overlaps)
@@ -108,7 +108,7 @@ def command(
         artists = plot_packing_fraction(result)
         save_figure(artists[0].figure, plot_path)
         if json_path != "-":
-            click.echo(f"plot written to {plot_path}")
+            click.echo(f"wrote {plot_path}")
     if json_path is not None:
         write_json(
             {

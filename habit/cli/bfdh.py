@@ -64,7 +64,7 @@ def draw_and_export(poly: Any, title: str, plot_path: str | None, export_path: s
 @crystal_options
 @click.option(
     "--max-index",
-    type=int,
+    type=click.IntRange(1, 6),
     default=2,
     show_default=True,
     help="Consider every form with a face whose indices are all within ±N.",

@@ -81,7 +81,7 @@ def bonds_report(result: Any) -> dict[str, Any]:
 )
 @click.option(
     "--max-index",
-    type=int,
+    type=click.IntRange(1, 6),
     default=2,
     show_default=True,
     help="Every form with a face whose indices are all within ±N.",

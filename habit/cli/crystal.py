@@ -39,10 +39,26 @@ def command(
             "source": crystal.forms.source,
             "values": {crystal.format_face(h, ""): v for h, v in crystal.forms.as_dict().items()},
         }
+    axes = {
+        "standard": "the conventional axes of the class",
+        "rhombohedral": "rhombohedral axes",
+        "unique-c": "monoclinic, unique axis c",
+        "unique-a": "monoclinic, unique axis a",
+    }[crystal.setting]
     lines = [
         crystal_header(crystal),
-        f"setting: {crystal.setting}; cell volume {crystal.volume:.3f} Å³",
+        f"axes: {axes}; cell volume {crystal.volume:.3f} Å³",
     ]
+    sg = crystal.space_group
+    if sg is not None:
+        from habit.symmetry import space_group
+
+        standard = space_group(int(sg.number)).symbol
+        if standard != sg.symbol:
+            lines.append(
+                f"space group {sg.symbol} is a setting of {standard} (No. {sg.number}); "
+                "Miller indices refer to your cell"
+            )
     if crystal.source:
         lines.append(f"source: {crystal.source}")
     if conventional:

@@ -55,12 +55,15 @@ def command(
     }
     if json_path != "-":
         click.echo(f"{what}")
-        click.echo(f"\n{'':<10}{'name':<32}{'V':>5}{'E':>5}{'F':>5}  symmetry (order)  flags")
+        click.echo(
+            f"\n{'':<10}{'name':<30}{'V':>5}{'E':>5}{'F':>5}  {'symmetry (order)':<18}"
+            f"{'flags':>6}{'volume (Å³)':>14}"
+        )
         for row, d in (("original", original), ("dual", reciprocal)):
+            sym = f"{d['symmetry']} ({d['symmetry_order']})"
             click.echo(
-                f"{row:<10}{d['name'][:31]:<32}{d['n_vertices']:>5}{d['n_edges']:>5}"
-                f"{d['n_faces']:>5}  {d['symmetry']} ({d['symmetry_order']})"
-                f"{'':<6}{d['flag_count']}"
+                f"{row:<10}{d['name'][:29]:<30}{d['n_vertices']:>5}{d['n_edges']:>5}"
+                f"{d['n_faces']:>5}  {sym:<18}{d['flag_count']:>6}{d['volume_A3']:>14.5g}"
             )
         click.echo(
             f"\nreciprocated about ({', '.join(f'{x:.4f}' for x in result.centre)}) Å in a "
@@ -74,13 +77,18 @@ def command(
             )
     if plot_path:
         from habit.plot import save_figure
-        from habit.plot.shape import plot_polyhedron
+        from habit.plot.shape import plot_polyhedra
 
-        art = plot_polyhedron(dual, labels=False)
-        ax = art.faces.axes
-        ax.set_title(f"dual of {what}: {reciprocal['name']}", fontsize=9)
-        save_figure(ax.figure, plot_path)
+        arts = plot_polyhedra(
+            [poly, dual], [f"{what}:\n{original['name']}", f"dual:\n{reciprocal['name']}"],
+            labels=False,
+        )
+        save_figure(arts[0].faces.axes.figure, plot_path)
     if export_path:
         write_solid(dual, export_path)
+    if json_path != "-":
+        for path in (plot_path, export_path):
+            if path:
+                click.echo(f"wrote {path}")
     if json_path is not None:
         write_json(data, json_path)

@@ -20,9 +20,19 @@ from habit.cli._scale import execution_options
 )
 @click.option("--x", "x_text", required=True, metavar="FORM=LOW:HIGH", help="Form along x.")
 @click.option("--y", "y_text", required=True, metavar="FORM=LOW:HIGH", help="Form along y.")
-@click.option("--size", default=17, show_default=True, help="Coarse grid points per axis.")
 @click.option(
-    "--levels", default=3, show_default=True, help="Refinements near boundaries (0: plain grid)."
+    "--size",
+    type=click.IntRange(3, 1001),
+    default=17,
+    show_default=True,
+    help="Coarse grid points per axis.",
+)
+@click.option(
+    "--levels",
+    type=click.IntRange(0, 8),
+    default=3,
+    show_default=True,
+    help="Refinements near boundaries (0: plain grid).",
 )
 @kind_options
 @click.option("--csv", "csv_path", metavar="PATH", help="Write the computed points as CSV.")

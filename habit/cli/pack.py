@@ -10,7 +10,13 @@ from habit.cli._common import json_option
 @click.command("pack")
 @click.argument("shape")
 @click.option("--double", is_flag=True, help="Also search double lattices (K and -K).")
-@click.option("--starts", default=40, show_default=True, help="Random starts of the search.")
+@click.option(
+    "--starts",
+    type=click.IntRange(1, 10_000),
+    default=30,
+    show_default=True,
+    help="Random starts of the search (it goes on until the best is reached three times).",
+)
 @click.option("--seed", default=0, show_default=True, help="Seed of the random starts.")
 @click.option("--plot", "plot_path", metavar="FILE", help="Particle with touching neighbours.")
 @json_option
@@ -52,6 +58,8 @@ def command(
         artists = plot_packing(result)
         fig = artists[0].axes.figure if isinstance(artists, list) else artists.figure
         save_figure(fig, plot_path)
+        if json_path != "-":
+            click.echo(f"wrote {plot_path}")
     if json_path is not None:
         write_json(data, json_path)
 
@@ -72,6 +80,9 @@ def _record(result: object) -> dict[str, object]:
 def _print(result: object, title: str) -> None:
     r = result
     click.echo(f"\n{title}: density {r.density:.12f} ({r.density * 100:.4f} % of space)")  # type: ignore[attr-defined]
+    click.echo(
+        f"particle volume {r.particle_volume:.6g} Å³ in a cell of {r.cell_volume:.6g} Å³"  # type: ignore[attr-defined]
+    )
     click.echo("basis (rows, Å):")
     for row in r.basis:  # type: ignore[attr-defined]
         click.echo("  [" + "  ".join(f"{x:>10.5f}" for x in row) + " ]")

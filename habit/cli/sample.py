@@ -41,7 +41,14 @@ from habit.cli._scale import execution_options
     metavar="HKL:HKL=R",
     help="Correlation of two forms' values, e.g. --corr 100:111=0.5.",
 )
-@click.option("-n", "--draws", default=10_000, show_default=True, help="Number of draws.")
+@click.option(
+    "-n",
+    "--draws",
+    type=click.IntRange(1, 100_000_000),
+    default=10_000,
+    show_default=True,
+    help="Number of draws.",
+)
 @click.option(
     "--distribution",
     type=click.Choice(["normal", "uniform"]),
@@ -51,7 +58,13 @@ from habit.cli._scale import execution_options
 )
 @click.option("--per-face", is_flag=True, help="Draw every face on its own (breaks symmetry).")
 @click.option("--seed", type=int, default=None, help="Seed: the same seed gives the same numbers.")
-@click.option("--level", default=0.95, show_default=True, help="Confidence level of intervals.")
+@click.option(
+    "--level",
+    type=click.FloatRange(0.0, 1.0, min_open=True, max_open=True),
+    default=0.95,
+    show_default=True,
+    help="Confidence level of intervals, between 0 and 1.",
+)
 @kind_options
 @click.option("--csv", "csv_path", metavar="PATH", help="Write every draw as CSV.")
 @click.option("--plot", "plot_path", metavar="FILE", help="Histograms with intervals (.png).")
@@ -107,6 +120,12 @@ def command(
             sd[planes.form_index(form)] = float(val)
         except ValueError:
             raise InputError(f"--sd takes HKL=SD, e.g. 111=0.05; got {text!r}.") from None
+    if not np.any(sd > 0):
+        click.echo(
+            "note: no spread given (--sd HKL=SD or --relative-sd R), so every draw is the "
+            "same shape.",
+            err=True,
+        )
     corr = None
     if corr_texts:
         corr = np.eye(planes.n_forms)
@@ -167,7 +186,13 @@ def command(
         "shapes": out.region_counts(),
     }
     if not quiet:
-        click.echo(f"{crystal.name}: {out.n} shapes ({distribution} draws, seed {seed})")
+        seed_text = f"seed {seed}" if seed is not None else "unseeded: give --seed to repeat"
+        click.echo(f"{crystal.name}: {out.n} shapes ({distribution} draws, {seed_text})")
+        if out.n_dropped:
+            click.echo(
+                f"warning: {out.n_dropped} of {draws} draws gave a value <= 0 and were "
+                "dropped; the spread is too large for a positive quantity."
+            )
         click.echo(
             f"\n{'form':<10}{'value (' + unit + ')':>18}{'P(present)':>12}"
             f"{'area fraction':>15}{pct:>4d} % interval"

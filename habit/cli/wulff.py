@@ -63,7 +63,7 @@ def shape_report(shape: Any) -> dict[str, Any]:
 def print_report(report: dict[str, Any], crystal_line: str) -> None:
     """Print the form table and the shape summary."""
     unit = report["value_unit"]
-    head = {"energy": f"energy ({unit})", "distance": "distance", "rate": f"rate ({unit})"}[
+    head = {"energy": f"energy ({unit})", "distance": "dist. (rel.)", "rate": "rate (rel.)"}[
         report["kind"]
     ]
     click.echo(crystal_line)
@@ -73,7 +73,7 @@ def print_report(report: dict[str, Any], crystal_line: str) -> None:
     )
     for f in report["forms"]:
         click.echo(
-            f"{f['form']:<12}{f['name'][:27]:<28}{f['multiplicity']:>6}{f['value']:>16.4g}"
+            f"{f['form']:<12}{f['name'][:27]:<28}{f['multiplicity']:>6}{f['value']:>16.4f}"
             f"{f['central_distance_h0']:>15.4f}{f['area_percent']:>10.2f}  "
             f"{'yes' if f['present'] else 'no'}"
         )

@@ -30,6 +30,7 @@ __all__ = [
     "FORM_PALETTE",
     "ShapeArtists",
     "plot_polyhedron",
+    "plot_polyhedra",
     "save_figure",
     "format_hkl_label",
     "view_direction",
@@ -278,9 +279,9 @@ def plot_polyhedron(
                 )
 
     leg = None
-    if legend:
-        names = form_labels if form_labels is not None else poly.form_labels
-        present = np.unique(fid)
+    names = form_labels if form_labels is not None else poly.form_labels
+    present = np.unique(fid)
+    if legend and (names is not None or len(present) < poly.n_faces):
         handles = [
             Patch(
                 facecolor=palette[i % len(palette)],
@@ -298,3 +299,34 @@ def plot_polyhedron(
     ax.set_box_aspect((1.0, 1.0, 1.0))
     ax.set_axis_off()
     return ShapeArtists(coll, edges, hidden, texts, leg, visible, rgba)
+
+
+def plot_polyhedra(
+    polys: Sequence[Polyhedron], titles: Sequence[str] | None = None, **kwargs: Any
+) -> list[ShapeArtists]:
+    """Draw several polyhedra side by side in one figure, one 3-D axes each.
+
+    Parameters
+    ----------
+    polys : sequence of Polyhedron
+    titles : sequence of str, optional
+        One title per polyhedron.
+    **kwargs
+        Passed to :func:`plot_polyhedron`.
+
+    Returns
+    -------
+    list of ShapeArtists
+        One per polyhedron; ``artists[0].faces.axes.figure`` is the figure.
+    """
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(4.5 * len(polys), 4.8))
+    out = []
+    for i, poly in enumerate(polys):
+        ax = fig.add_subplot(1, len(polys), i + 1, projection="3d")
+        art = plot_polyhedron(poly, ax, **kwargs)
+        if titles is not None:
+            ax.set_title(titles[i], fontsize=9)
+        out.append(art)
+    return out
