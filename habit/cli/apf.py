@@ -89,7 +89,9 @@ def command(
             f"({result.fraction * 100:.2f} % of the cell), {result.radius_source} radii, "
             f"cell volume {result.cell_volume:.3f} Å³"
         )
-        click.echo(f"\n{'site':>4}  {'species':<8}{'radius (Å)':>11}{'CN':>4}{'share of cell (%)':>19}")
+        click.echo(
+            f"\n{'site':>4}  {'species':<8}{'radius (Å)':>11}{'CN':>4}{'share of cell (%)':>19}"
+        )
         for s in sites:
             click.echo(
                 f"{s['site']:>4}  {s['species']:<8}{s['radius_A']:>11.4f}{s['coordination']:>4}"
