@@ -28,6 +28,7 @@ import numpy as np
 from habit._typing import FloatArray, IntArray
 from habit.crystal import FORM_KINDS, Crystal, FormValues
 from habit.errors import InputError, OpenShapeError, UnknownSymbolError
+from habit.miller import reduce_indices
 from habit.tolerances import DEFAULT, Tolerances
 
 __all__ = ["FormResult", "WulffShape", "wulff_shape", "form_planes", "plane_set"]
@@ -171,7 +172,8 @@ def _distinct_forms(
     seen: dict[tuple[tuple[int, ...], ...], float] = {}
     out_h, out_v = [], []
     for hkl, value in zip(hkls, values, strict=True):
-        key = tuple(sorted(tuple(int(x) for x in m) for m in crystal.expand_form(hkl)))
+        # (202) is the face (101): compare forms by their reduced indices
+        key = tuple(sorted(map(tuple, reduce_indices(crystal.expand_form(hkl)).tolist())))
         if key in seen:
             if not math.isclose(seen[key], value, rel_tol=1e-12):
                 raise InputError(
@@ -219,7 +221,7 @@ def form_planes(
     keep: list[int] = []
     for i, hkl in enumerate(hkl_list):
         members = crystal.expand_form(hkl)
-        key = tuple(sorted(tuple(int(x) for x in m) for m in members))
+        key = tuple(sorted(map(tuple, reduce_indices(members).tolist())))
         first = owner.get(key[0])
         if first is not None:
             if not math.isclose(value_list[first], value_list[i], rel_tol=1e-12):

@@ -218,3 +218,14 @@ def test_wulff_invariants_over_random_classes(data, factor, rnd):
     assert by_form.keys() == {key(f) for f in shape.forms}
     for f in shape.forms:
         assert by_form[key(f)] == pytest.approx(f.area_fraction, abs=1e-12)
+
+
+def test_regression_multiple_of_a_face_is_the_same_form():
+    # found by the random-class invariants: in class -31m, {202} (the face (101) written
+    # with a common factor) and {011} are one form; they must count once, not twice
+    crystal = Crystal.from_cell(5.0, c=7.0, crystal_class="-31m")
+    shape = wulff_shape(crystal, {(2, 0, 2): 0.9, (0, 1, 1): 0.9, (0, 0, 1): 1.2, (1, 0, 0): 1.0})
+    assert len(shape.forms) == 3
+    assert sum(f.area_fraction for f in shape.forms) == pytest.approx(1.0, abs=1e-12)
+    with pytest.raises(InputError, match="twice"):
+        wulff_shape(crystal, {(2, 0, 2): 0.9, (0, 1, 1): 1.0, (0, 0, 1): 1.2})
