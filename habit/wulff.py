@@ -143,12 +143,14 @@ def _as_items(
         hkl = crystal.parse_face(key) if isinstance(key, str) else tuple(int(v) for v in key)
         if len(hkl) != 3:
             raise InputError(f"a form needs three Miller indices; got {key!r}.")
-        hkls.append(hkl)  # type: ignore[arg-type]
+        hkls.append((hkl[0], hkl[1], hkl[2]))
         values.append(value)
     return hkls, values, None
 
 
-def _check_values(crystal: Crystal, hkls: list[tuple[int, int, int]], values: list[Any], kind: str):
+def _check_values(
+    crystal: Crystal, hkls: list[tuple[int, int, int]], values: list[Any], kind: str
+) -> list[float]:
     what = {"energy": "surface energy", "distance": "central distance", "rate": "growth rate"}[kind]
     out = []
     for hkl, value in zip(hkls, values, strict=True):
@@ -342,9 +344,10 @@ def wulff_shape(
         given = sorted({labels[i] for i in form_ids}, key=labels.index)
         raise OpenShapeError(_open_message(crystal, given, exc.direction), exc.direction) from None
     n_forms = len(hkls)
-    areas = np.bincount(poly.form_ids, weights=poly.face_areas, minlength=n_forms)
+    face_forms = np.asarray(poly.form_ids, dtype=np.int64)  # (F,) form of each face
+    areas = np.bincount(face_forms, weights=poly.face_areas, minlength=n_forms)
     total = float(areas.sum())
-    on_shape = set(poly.form_ids.tolist())
+    on_shape = set(face_forms.tolist())
     results = []
     for i, hkl in enumerate(hkls):
         results.append(
