@@ -137,6 +137,7 @@ def test_open_forms_name_a_direction():
 
 
 # --- invariants over random classes, cells and energies ----------------------------------
+from habit.miller import reduce_indices  # noqa: E402
 from habit.symmetry import POINT_GROUP_SYMBOLS, point_group  # noqa: E402
 
 BOX = [(1, 0, 0), (-1, 0, 0), (0, 1, 0), (0, -1, 0), (0, 0, 1), (0, 0, -1)]
@@ -167,16 +168,18 @@ def crystals(draw):
 def crystal_and_forms(draw):
     crystal = draw(crystals())
     forms = {h: 2.0 for h in BOX}  # a closing box of pinacoid/pedion faces, all at 2.0
-    seen = {tuple(sorted(map(tuple, crystal.expand_form(h).tolist()))) for h in BOX}
+    def key(hkl):  # a form as its set of faces, (202) being the face (101)
+        return tuple(sorted(map(tuple, reduce_indices(crystal.expand_form(hkl)).tolist())))
+
+    seen = {key(h) for h in BOX}
     index = st.integers(-2, 2)
     for _ in range(draw(st.integers(1, 4))):
         hkl = (draw(index), draw(index), draw(index))
         if sum(1 for x in hkl if x) < 2:
             continue
-        key = tuple(sorted(map(tuple, crystal.expand_form(hkl).tolist())))
-        if key in seen:
+        if key(hkl) in seen:
             continue
-        seen.add(key)
+        seen.add(key(hkl))
         forms[hkl] = draw(st.floats(0.9, 1.9))
     return crystal, forms
 
