@@ -13,6 +13,16 @@ __version__ = "0.1.0"
 
 # public name -> module that defines it; loaded lazily so `import habit` stays fast.
 _PUBLIC: dict[str, str] = {
+    "Crystal": "habit.crystal",
+    "load_crystal": "habit.crystal",
+    "parse_hkl": "habit.miller",
+    "format_hkl": "habit.miller",
+    "point_group": "habit.symmetry",
+    "space_group": "habit.spacegroups",
+    "wulff_shape": "habit.wulff",
+    "WulffShape": "habit.wulff",
+    "atomic_packing_fraction": "habit.apf",
+    "reference_polyhedron": "habit.solids",
     "HabitError": "habit.errors",
     "Tolerances": "habit.tolerances",
     "Polyhedron": "habit.polyhedron",

@@ -481,27 +481,31 @@ def solve_shapes(
             _solve_into(plan, g, method, chunk, areas, volume, fallback, ell, progress)
     else:
         n_tasks = max(1, min(nshape // max(chunk, 1), 8 * (workers or os.cpu_count() or 1)))
-        parts = np.array_split(np.arange(nshape), n_tasks)
+        bounds = np.linspace(0, nshape, n_tasks + 1).astype(int)
+        parts = [slice(int(a), int(b)) for a, b in zip(bounds[:-1], bounds[1:], strict=True)]
         compact = planes.symmetric
         sent = g[:, plan.reps] if compact else g  # (S, F) or (S, N)
-        tasks = [(plan, sent[idx], method, chunk, edges, compact) for idx in parts]
+        tasks = [(plan, sent[part], method, chunk, edges, compact) for part in parts]
         done = 0
         for i, (a_i, v_i, f_i, e_i) in _execute.run_tasks(
             _solve_task, tasks, mode=mode, workers=workers, scheduler=scheduler
         ):
-            idx = parts[i]
-            areas[idx] = a_i[:, plan.family] if compact else a_i
-            volume[idx], fallback[idx] = v_i, f_i
+            part = parts[i]  # contiguous rows: slice assignment, not a fancy-index scatter
+            areas[part] = a_i[:, plan.family] if compact else a_i
+            volume[part], fallback[part] = v_i, f_i
             if ell is not None:
-                ell[idx] = e_i
-            done += len(idx)
+                ell[part] = e_i
+            done += part.stop - part.start
             if progress is not None:
                 progress(done)
     np.maximum(areas, 0.0, out=areas)
     total = areas.sum(axis=1)  # (S,)
     present = areas > tol.area * total[:, None]
-    onehot = np.eye(planes.n_forms)[planes.forms]  # (N, F)
-    fractions = (areas @ onehot) / total[:, None]  # (S, F)
+    # area of each form: add the columns of its faces (F small: one reduction per form)
+    fractions = np.empty((nshape, planes.n_forms))  # (S, F)
+    for f in range(planes.n_forms):
+        fractions[:, f] = areas[:, planes.forms == f].sum(axis=1)
+    fractions /= total[:, None]
     out = [areas, volume, present, fractions, fallback]
     if ell is not None:
         out.append(ell)

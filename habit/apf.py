@@ -224,7 +224,7 @@ def atomic_packing_fraction(
 
 
 def _table_radius(site: Any, kind: str) -> float:
-    from pymatgen.core import Element
+    from pymatgen.core.periodic_table import Element
 
     element = Element(getattr(site.specie, "symbol", str(site.specie)))
     if kind == "covalent":
@@ -262,7 +262,7 @@ def _find_overlaps(structure: Any, radii: FloatArray, slack: float = 0.01) -> tu
     cutoff = float(2.0 * radii.max()) + slack
     center, point, _, dist = structure.get_neighbor_list(cutoff)
     keep = (center <= point) & (dist > 1e-8) & (dist < radii[center] + radii[point] - slack)
-    found = {}
+    found: dict[tuple[int, int], Overlap] = {}
     for i, j, d in zip(center[keep], point[keep], dist[keep], strict=True):
         key = (int(i), int(j))
         if key not in found or d < found[key].distance:

@@ -122,7 +122,7 @@ def _transform_space_group(sg: Any, p_matrix: FloatArray) -> Any:
     trans = np.mod(np.round(trans, 10), 1.0)
     rots_int = np.rint(rots).astype(np.int64)
     # centring translations of the old cell become lattice vectors: drop duplicates
-    keys = {}
+    keys: dict[tuple[bytes, tuple[float, ...]], tuple[Any, Any]] = {}
     for r, t in zip(rots_int, trans, strict=True):
         keys.setdefault((r.tobytes(), tuple(np.round(t, 8) % 1.0)), (r, t))
     rot_out = np.array([v[0] for v in keys.values()])
@@ -153,6 +153,8 @@ def _setting_symbol(sg: Any) -> Any:
         if kind is None or kind.number != sg.number:
             continue
         db = spglib.get_symmetry_from_database(hall)
+        if db is None:
+            continue
         rots = np.asarray(db["rotations"], dtype=np.int64)
         if {r.tobytes() for r in rots} != my_rots:
             continue
@@ -443,7 +445,7 @@ class Crystal:
     ) -> Crystal:
         """Make a crystal from a pymatgen Structure, keeping its cell and setting."""
         import spglib
-        from pymatgen.core import Lattice, Structure
+        from pymatgen.core import Lattice, Structure  # type: ignore[attr-defined]
 
         from habit import symmetry
 
@@ -456,7 +458,9 @@ class Crystal:
         species = [site.species for site in structure]
         kinds: dict[str, int] = {}
         numbers = [kinds.setdefault(str(sp), len(kinds) + 1) for sp in species]
-        dataset = spglib.get_symmetry_dataset((lattice, frac, numbers), symprec=symprec)
+        dataset = spglib.get_symmetry_dataset(
+            (lattice, frac, numbers), symprec=symprec  # type: ignore[arg-type]
+        )
         if dataset is None:
             raise FileFormatError(
                 f"spglib could not find the symmetry of {name or 'the structure'}; check the "
@@ -603,8 +607,9 @@ class Crystal:
                 f"{self.name or 'this crystal'} has no space group; give one to use "
                 "reflection conditions."
             )
-        out: BoolArray = symmetry.is_absent(
-            hkl, self.space_group.rotations, self.space_group.translations
+        out: BoolArray = np.asarray(
+            symmetry.is_absent(hkl, self.space_group.rotations, self.space_group.translations),
+            dtype=bool,
         )
         return out
 
@@ -621,12 +626,14 @@ class Crystal:
         if self.structure is None:
             raise InputError("the conventional setting needs atom positions (a CIF).")
         import spglib
-        from pymatgen.core import Lattice, Structure
+        from pymatgen.core import Lattice, Structure  # type: ignore[attr-defined]
 
         frac = np.asarray(self.structure.frac_coords, dtype=float)
         kinds: dict[str, int] = {}
         numbers = [kinds.setdefault(str(s.species), len(kinds) + 1) for s in self.structure]
-        ds = spglib.get_symmetry_dataset((np.array(self.lattice), frac, numbers), symprec=symprec)
+        ds = spglib.get_symmetry_dataset(
+            (np.array(self.lattice), frac, numbers), symprec=symprec  # type: ignore[arg-type]
+        )
         if ds is None:
             raise InputError("spglib could not find the symmetry of this structure.")
         p_matrix = np.asarray(ds.transformation_matrix, dtype=float)
@@ -636,8 +643,7 @@ class Crystal:
         if np.allclose(hkl_matrix, rounded, atol=1e-8):
             hkl_matrix = rounded.astype(np.int64)
         std_lattice = np.asarray(ds.std_lattice, dtype=float)
-        species_of = {v: k for k, v in kinds.items()}
-        first_species = {}
+        first_species: dict[int, Any] = {}
         for site in self.structure:
             first_species.setdefault(kinds[str(site.species)], site.species)
         structure = Structure(
@@ -645,7 +651,6 @@ class Crystal:
             [first_species[n] for n in ds.std_types],
             np.asarray(ds.std_positions),
         )
-        del species_of
         crystal = Crystal.from_structure(
             structure, name=self.name, symprec=symprec, forms=None, source=self.source
         )

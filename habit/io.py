@@ -1,4 +1,4 @@
-"""Writers for polyhedra: binary STL, Wavefront OBJ and JSON.
+"""Writers for polyhedra (binary STL, Wavefront OBJ, JSON) and particles (extended XYZ).
 
 Every writer writes to a temporary file beside the target and moves it into place with
 ``os.replace`` only when the whole file has been written, so a failed write never leaves
@@ -18,12 +18,15 @@ import json
 import math
 import os
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from habit.errors import FileFormatError
 from habit.polyhedron import Polyhedron, fan_triangles
+
+if TYPE_CHECKING:
+    from habit.particle import Particle
 
 __all__ = [
     "write_stl",
@@ -35,6 +38,8 @@ __all__ = [
     "stl_bytes",
     "obj_text",
     "atomic_write",
+    "format_extxyz",
+    "write_extxyz",
 ]
 
 
@@ -248,3 +253,71 @@ def read_polyhedron_json(path: str | os.PathLike[str]) -> Polyhedron:
     except (json.JSONDecodeError, UnicodeDecodeError) as exc:
         raise FileFormatError(f"{target} is not valid JSON ({exc}).") from None
     return polyhedron_from_dict(data)
+
+
+# --- atoms: extended XYZ ------------------------------------------------------------
+
+
+def format_extxyz(particle: Particle, *, vacuum: float = 10.0, comment: str = "") -> str:
+    """Return the particle as extended XYZ text.
+
+    The atoms are shifted into an orthogonal box that leaves ``vacuum`` Å on every side
+    (``Lattice=`` of the comment line, ``pbc="F F F"``); the columns are species,
+    position (Å), site label (``bulk``, ``facet{hkl}``, ``edge``, ``vertex``) and
+    coordination.
+
+    Parameters
+    ----------
+    particle : habit.particle.Particle
+    vacuum : float
+        Space around the particle, Å.
+    comment : str
+        Free text added as ``comment="..."`` (double quotes are replaced).
+
+    Returns
+    -------
+    str
+    """
+    pos = particle.positions
+    low = pos.min(axis=0) - vacuum
+    box = pos.max(axis=0) - pos.min(axis=0) + 2.0 * vacuum
+    shifted = pos - low
+    centre = -low
+    lattice = f"{box[0]:.6f} 0 0 0 {box[1]:.6f} 0 0 0 {box[2]:.6f}"
+    header = (
+        f'Lattice="{lattice}" '
+        "Properties=species:S:1:pos:R:3:site:S:1:coordination:I:1 "
+        f'pbc="F F F" centre="{centre[0]:.6f} {centre[1]:.6f} {centre[2]:.6f}"'
+    )
+    if comment:
+        header += ' comment="' + comment.replace('"', "'") + '"'
+    labels = ["_".join(lab.split()) for lab in particle.site_labels().tolist()]  # no blanks
+    line = "{:<3}{:14.6f}{:14.6f}{:14.6f}  {} {}".format
+    body = map(
+        line,
+        particle.species.tolist(),
+        shifted[:, 0].tolist(),
+        shifted[:, 1].tolist(),
+        shifted[:, 2].tolist(),
+        labels,
+        particle.coordination.tolist(),
+    )
+    return f"{particle.n_atoms}\n{header}\n" + "\n".join(body) + "\n"
+
+
+def write_extxyz(particle: Particle, path: str | os.PathLike[str], **kwargs: Any) -> Path:
+    """Write :func:`format_extxyz` to ``path`` atomically (temporary file, then rename).
+
+    Parameters
+    ----------
+    particle : habit.particle.Particle
+    path : str or path-like
+    **kwargs
+        Passed to :func:`format_extxyz`.
+
+    Returns
+    -------
+    pathlib.Path
+        The target path.
+    """
+    return atomic_write(path, format_extxyz(particle, **kwargs))

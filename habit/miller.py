@@ -18,7 +18,9 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Iterable
 from functools import reduce
+from typing import SupportsInt, cast
 
 import numpy as np
 
@@ -191,6 +193,11 @@ def reduce_indices(indices: ArrayLike) -> IntArray:
     return out
 
 
+def _ints(values: ArrayLike) -> tuple[int, ...]:
+    """The entries of a flat sequence of indices as Python ints."""
+    return tuple(int(v) for v in cast("Iterable[SupportsInt]", values))
+
+
 def hkil_to_hkl(hkil: ArrayLike) -> tuple[int, int, int]:
     """Convert ``(hkil)`` to ``(hkl)`` after checking ``i = -(h + k)``.
 
@@ -199,7 +206,7 @@ def hkil_to_hkl(hkil: ArrayLike) -> tuple[int, int, int]:
     >>> hkil_to_hkl((1, 0, -1, 1))
     (1, 0, 1)
     """
-    h, k, i, l = (int(v) for v in hkil)  # noqa: E741
+    h, k, i, l = _ints(hkil)  # noqa: E741
     if i != -(h + k):
         raise InvalidMillerIndexError(
             f"({h} {k} {i} {l}) is not a Miller–Bravais index: the third index must be "
@@ -216,7 +223,7 @@ def hkl_to_hkil(hkl: ArrayLike) -> tuple[int, int, int, int]:
     >>> hkl_to_hkil((1, 0, 1))
     (1, 0, -1, 1)
     """
-    h, k, l = (int(v) for v in hkl)  # noqa: E741
+    h, k, l = _ints(hkl)  # noqa: E741
     return (h, k, -(h + k), l)
 
 
@@ -228,7 +235,7 @@ def uvtw_to_uvw(uvtw: ArrayLike) -> tuple[int, int, int]:
     >>> uvtw_to_uvw((2, -1, -1, 0))
     (1, 0, 0)
     """
-    U, V, T, W = (int(v) for v in uvtw)
+    U, V, T, W = _ints(uvtw)
     if T != -(U + V):
         raise InvalidMillerIndexError(
             f"[{U} {V} {T} {W}] is not a four-index direction: the third index must be "
@@ -247,16 +254,19 @@ def uvw_to_uvtw(uvw: ArrayLike) -> tuple[int, int, int, int]:
     >>> uvw_to_uvtw((1, 0, 0))
     (2, -1, -1, 0)
     """
-    u, v, w = (int(x) for x in uvw)
+    u, v, w = _ints(uvw)
     U3, V3, T3, W3 = 2 * u - v, 2 * v - u, -(u + v), 3 * w
     g = _gcd((U3, V3, T3, W3)) or 1
     return (U3 // g, V3 // g, T3 // g, W3 // g)
 
 
-def _join(values: tuple[int, ...]) -> str:
+def _written(values: tuple[int, ...], brackets: str) -> str:
+    """Indices run together when all are single digits, else spaced; then bracketed."""
     if all(-9 <= v <= 9 for v in values):
-        return "".join(str(v) for v in values)
-    return " ".join(str(v) for v in values)
+        text = "".join(str(v) for v in values)
+    else:
+        text = " ".join(str(v) for v in values)
+    return f"{brackets[0]}{text}{brackets[1]}" if brackets else text
 
 
 def format_hkl(hkl: ArrayLike, *, hexagonal: bool = False, brackets: str = "()") -> str:
@@ -279,11 +289,10 @@ def format_hkl(hkl: ArrayLike, *, hexagonal: bool = False, brackets: str = "()")
     >>> format_hkl((1, 0, 12))
     '(1 0 12)'
     """
-    values = tuple(int(v) for v in hkl)
+    values = _ints(hkl)
     if hexagonal:
         values = hkl_to_hkil(values)
-    text = _join(values)
-    return f"{brackets[0]}{text}{brackets[1]}" if brackets else text
+    return _written(values, brackets)
 
 
 def format_uvw(uvw: ArrayLike, *, hexagonal: bool = False, brackets: str = "[]") -> str:
@@ -294,8 +303,7 @@ def format_uvw(uvw: ArrayLike, *, hexagonal: bool = False, brackets: str = "[]")
     >>> format_uvw((1, 0, 0), hexagonal=True)
     '[2-1-10]'
     """
-    values = tuple(int(v) for v in uvw)
+    values = _ints(uvw)
     if hexagonal:
         values = uvw_to_uvtw(values)
-    text = _join(values)
-    return f"{brackets[0]}{text}{brackets[1]}" if brackets else text
+    return _written(values, brackets)

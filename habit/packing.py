@@ -314,6 +314,29 @@ def _check_starts(starts: int) -> int:
     return int(starts)
 
 
+def _certificate(
+    method: str, out: Any, opt: Any, sep: float, v: np.ndarray, density: float, **extra: Any
+) -> PackingCertificate:
+    """The certificate fields both searches share, plus their own ``extra`` ones."""
+    return PackingCertificate(
+        method=method,
+        starts=out.starts,
+        hits=out.hits,
+        miss_bound=1.0 - 0.001 ** (1.0 / out.starts),
+        min_gauge=out.min_gauge,
+        admissible=bool(out.min_gauge >= 1.0 - 1e-10),
+        separation=sep,
+        separated=bool(sep <= 1e-9 * _diameter(v)),
+        first_order=opt.first_order,
+        second_order=opt.second_order,
+        kkt_residual=opt.kkt_residual,
+        reduced_hessian_min=opt.reduced_hessian_min,
+        contact_rank=opt.rank,
+        space_filling=bool(density >= 1.0 - 1e-12),
+        **extra,
+    )
+
+
 def _diameter(v: np.ndarray) -> float:
     return float(np.max(np.linalg.norm(v[:, None, :] - v[None, :, :], axis=-1)))
 
@@ -449,21 +472,13 @@ def densest_lattice_packing(
         config, tight = None, None  # a tiling: optimal by volume, no family test needed
     else:
         config, tight = _tightness(body, out.x[:9].reshape(3, 3), zc, mk, _rng(rng))
-    cert = PackingCertificate(
-        method="multistart SLP + Newton",
-        starts=out.starts,
-        hits=out.hits,
-        miss_bound=1.0 - 0.001 ** (1.0 / out.starts),
-        min_gauge=out.min_gauge,
-        admissible=bool(out.min_gauge >= 1.0 - 1e-10),
-        separation=sep,
-        separated=bool(sep <= 1e-9 * _diameter(v)),
-        first_order=opt.first_order,
-        second_order=opt.second_order,
-        kkt_residual=opt.kkt_residual,
-        reduced_hessian_min=opt.reduced_hessian_min,
-        contact_rank=opt.rank,
-        space_filling=bool(density >= 1.0 - 1e-12),
+    cert = _certificate(
+        "multistart SLP + Newton",
+        out,
+        opt,
+        sep,
+        v,
+        density,
         minkowski_type=None if mk is None else mk[0],
         minkowski_basis=None if mk is None else _readonly(mk[1].T, np.int64),
         configuration=config,
@@ -547,21 +562,13 @@ def densest_double_lattice_packing(
     cell = float(abs(np.linalg.det(basis)))
     density = 2.0 * vol / cell
     sep = packing_overlap(v, basis, shift=t)
-    cert = PackingCertificate(
-        method="multistart SLP + Newton (lattice basis and shift)",
-        starts=out.starts,
-        hits=out.hits,
-        miss_bound=1.0 - 0.001 ** (1.0 / out.starts),
-        min_gauge=out.min_gauge,
-        admissible=bool(out.min_gauge >= 1.0 - 1e-10),
-        separation=sep,
-        separated=bool(sep <= 1e-9 * _diameter(v)),
-        first_order=opt.first_order,
-        second_order=opt.second_order,
-        kkt_residual=opt.kkt_residual,
-        reduced_hessian_min=opt.reduced_hessian_min,
-        contact_rank=opt.rank,
-        space_filling=bool(density >= 1.0 - 1e-12),
+    cert = _certificate(
+        "multistart SLP + Newton (lattice basis and shift)",
+        out,
+        opt,
+        sep,
+        v,
+        density,
         minkowski_type=None,
         minkowski_basis=None,
     )

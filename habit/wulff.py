@@ -28,6 +28,7 @@ import numpy as np
 from habit._typing import FloatArray, IntArray
 from habit.crystal import FORM_KINDS, Crystal, FormValues
 from habit.errors import InputError, OpenShapeError, UnknownSymbolError
+from habit.miller import reduce_indices
 from habit.tolerances import DEFAULT, Tolerances
 
 __all__ = ["FormResult", "WulffShape", "wulff_shape", "form_planes", "plane_set"]
@@ -142,12 +143,14 @@ def _as_items(
         hkl = crystal.parse_face(key) if isinstance(key, str) else tuple(int(v) for v in key)
         if len(hkl) != 3:
             raise InputError(f"a form needs three Miller indices; got {key!r}.")
-        hkls.append(hkl)  # type: ignore[arg-type]
+        hkls.append((hkl[0], hkl[1], hkl[2]))
         values.append(value)
     return hkls, values, None
 
 
-def _check_values(crystal: Crystal, hkls: list[tuple[int, int, int]], values: list[Any], kind: str):
+def _check_values(
+    crystal: Crystal, hkls: list[tuple[int, int, int]], values: list[Any], kind: str
+) -> list[float]:
     what = {"energy": "surface energy", "distance": "central distance", "rate": "growth rate"}[kind]
     out = []
     for hkl, value in zip(hkls, values, strict=True):
@@ -171,7 +174,8 @@ def _distinct_forms(
     seen: dict[tuple[tuple[int, ...], ...], float] = {}
     out_h, out_v = [], []
     for hkl, value in zip(hkls, values, strict=True):
-        key = tuple(sorted(tuple(int(x) for x in m) for m in crystal.expand_form(hkl)))
+        # (202) is the face (101): compare forms by their reduced indices
+        key = tuple(sorted(map(tuple, reduce_indices(crystal.expand_form(hkl)).tolist())))
         if key in seen:
             if not math.isclose(seen[key], value, rel_tol=1e-12):
                 raise InputError(
@@ -219,7 +223,7 @@ def form_planes(
     keep: list[int] = []
     for i, hkl in enumerate(hkl_list):
         members = crystal.expand_form(hkl)
-        key = tuple(sorted(tuple(int(x) for x in m) for m in members))
+        key = tuple(sorted(map(tuple, reduce_indices(members).tolist())))
         first = owner.get(key[0])
         if first is not None:
             if not math.isclose(value_list[first], value_list[i], rel_tol=1e-12):
@@ -340,9 +344,10 @@ def wulff_shape(
         given = sorted({labels[i] for i in form_ids}, key=labels.index)
         raise OpenShapeError(_open_message(crystal, given, exc.direction), exc.direction) from None
     n_forms = len(hkls)
-    areas = np.bincount(poly.form_ids, weights=poly.face_areas, minlength=n_forms)
+    face_forms = np.asarray(poly.form_ids, dtype=np.int64)  # (F,) form of each face
+    areas = np.bincount(face_forms, weights=poly.face_areas, minlength=n_forms)
     total = float(areas.sum())
-    on_shape = set(poly.form_ids.tolist())
+    on_shape = set(face_forms.tolist())
     results = []
     for i, hkl in enumerate(hkls):
         results.append(

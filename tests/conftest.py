@@ -5,8 +5,15 @@ from __future__ import annotations
 import os
 
 import pytest
+from hypothesis import settings
 
 os.environ.setdefault("MPLBACKEND", "Agg")
+
+# CI runs the property tests with a fixed seed, so a run can be repeated exactly;
+# elsewhere hypothesis explores new examples every run.
+settings.register_profile("ci", derandomize=True, deadline=None, print_blob=True)
+if os.environ.get("CI"):
+    settings.load_profile("ci")
 
 
 @pytest.fixture(autouse=True)

@@ -363,7 +363,7 @@ def test_count_grows_with_scale_and_matches_critical_scales(s1: float, s2: float
 def test_wyckoff_positions_of_fm3m() -> None:
     # International Tables Vol. A (from memory): the positions of Fm-3m without a free
     # parameter are 4a (0,0,0), 4b (1/2,1/2,1/2), 8c (1/4,1/4,1/4) and 24d (0,1/4,1/4)
-    from habit.particle import _wyckoff_points
+    from habit._sites import _wyckoff_points
 
     s = fcc_cu()
     species = tuple(["Cu"] * 4)

@@ -137,6 +137,7 @@ def test_open_forms_name_a_direction():
 
 
 # --- invariants over random classes, cells and energies ----------------------------------
+from habit.miller import reduce_indices  # noqa: E402
 from habit.symmetry import POINT_GROUP_SYMBOLS, point_group  # noqa: E402
 
 BOX = [(1, 0, 0), (-1, 0, 0), (0, 1, 0), (0, -1, 0), (0, 0, 1), (0, 0, -1)]
@@ -167,16 +168,18 @@ def crystals(draw):
 def crystal_and_forms(draw):
     crystal = draw(crystals())
     forms = {h: 2.0 for h in BOX}  # a closing box of pinacoid/pedion faces, all at 2.0
-    seen = {tuple(sorted(map(tuple, crystal.expand_form(h).tolist()))) for h in BOX}
+    def key(hkl):  # a form as its set of faces, (202) being the face (101)
+        return tuple(sorted(map(tuple, reduce_indices(crystal.expand_form(hkl)).tolist())))
+
+    seen = {key(h) for h in BOX}
     index = st.integers(-2, 2)
     for _ in range(draw(st.integers(1, 4))):
         hkl = (draw(index), draw(index), draw(index))
         if sum(1 for x in hkl if x) < 2:
             continue
-        key = tuple(sorted(map(tuple, crystal.expand_form(hkl).tolist())))
-        if key in seen:
+        if key(hkl) in seen:
             continue
-        seen.add(key)
+        seen.add(key(hkl))
         forms[hkl] = draw(st.floats(0.9, 1.9))
     return crystal, forms
 
@@ -218,3 +221,14 @@ def test_wulff_invariants_over_random_classes(data, factor, rnd):
     assert by_form.keys() == {key(f) for f in shape.forms}
     for f in shape.forms:
         assert by_form[key(f)] == pytest.approx(f.area_fraction, abs=1e-12)
+
+
+def test_regression_multiple_of_a_face_is_the_same_form():
+    # found by the random-class invariants: in class -31m, {202} (the face (101) written
+    # with a common factor) and {011} are one form; they must count once, not twice
+    crystal = Crystal.from_cell(5.0, c=7.0, crystal_class="-31m")
+    shape = wulff_shape(crystal, {(2, 0, 2): 0.9, (0, 1, 1): 0.9, (0, 0, 1): 1.2, (1, 0, 0): 1.0})
+    assert len(shape.forms) == 3
+    assert sum(f.area_fraction for f in shape.forms) == pytest.approx(1.0, abs=1e-12)
+    with pytest.raises(InputError, match="twice"):
+        wulff_shape(crystal, {(2, 0, 2): 0.9, (0, 1, 1): 1.0, (0, 0, 1): 1.2})

@@ -8,6 +8,7 @@ import math
 import os
 import sys
 from collections.abc import Callable, Iterator
+from pathlib import Path
 from typing import Any
 
 import click
@@ -19,6 +20,10 @@ __all__ = [
     "progress_bar",
     "deg_min",
     "to_jsonable",
+    "parse_assignments",
+    "parse_form_options",
+    "check_outputs",
+    "write_solid",
 ]
 
 
@@ -37,15 +42,12 @@ def atomic_output(path: str | os.PathLike[str], mode: str = "w") -> Iterator[Any
 
 def to_jsonable(value: Any) -> Any:
     """Convert numpy scalars/arrays, tuples and NaN into plain JSON values."""
-    try:
-        import numpy as np
-    except ImportError:  # pragma: no cover - numpy is a core dependency
-        np = None
-    if np is not None:
-        if isinstance(value, np.ndarray):
-            return [to_jsonable(v) for v in value.tolist()]
-        if isinstance(value, np.generic):
-            return to_jsonable(value.item())
+    import numpy as np
+
+    if isinstance(value, np.ndarray):
+        return [to_jsonable(v) for v in value.tolist()]
+    if isinstance(value, np.generic):
+        return to_jsonable(value.item())
     if isinstance(value, dict):
         return {str(k): to_jsonable(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
@@ -107,7 +109,7 @@ def deg_min(angle_deg: float) -> str:
     return f"{sign}{degrees}°{minutes:04.1f}′"
 
 
-class MillerType(click.ParamType):
+class MillerType(click.ParamType):  # type: ignore[type-arg, unused-ignore]
     """A face or form typed as people write it: ``111``, ``1 0 -1 1``, ``(10-11)``, ``{100}``."""
 
     name = "HKL"
@@ -182,6 +184,82 @@ def resolve_crystal(
         *values, crystal_class=crystal_class, space_group=sg, name="inline cell"
     )
     return crystal, tuple(args)
+
+
+def parse_assignments(
+    texts: tuple[str, ...],
+    option: str,
+    *,
+    metavar: str,
+    example: str,
+    cast: Callable[[str], Any] = float,
+) -> list[tuple[str, Any]]:
+    """Read repeated ``KEY=VALUE`` options (``--form 111=1.0``, ``--radius Cu=1.28`` ...).
+
+    Parameters
+    ----------
+    texts : tuple of str
+        The option's values as typed.
+    option : str
+        The option's name, for the message (``"--form"``).
+    metavar, example : str
+        How the value is written and an example of it, for the message.
+    cast : callable
+        Turns the text after ``=`` into the value; a ``ValueError`` from it is bad input.
+
+    Returns
+    -------
+    list of (str, value)
+        The keys (stripped) and the converted values, in the order given.
+
+    Raises
+    ------
+    InputError
+        For the first value with no ``=`` or whose value ``cast`` refuses.
+    """
+    from habit.errors import InputError
+
+    out = []
+    for text in texts:
+        key, sep, value = text.partition("=")
+        try:
+            if not sep:
+                raise ValueError
+            out.append((key.strip(), cast(value)))
+        except ValueError:
+            raise InputError(f"{option} takes {metavar}, e.g. {example}; got {text!r}.") from None
+    return out
+
+
+def parse_form_options(
+    crystal: Any, texts: tuple[str, ...], *, example: str = "111=1.0"
+) -> list[tuple[tuple[int, int, int], float]]:
+    """Read ``--form HKL=VALUE`` options against a crystal (its Miller-index rules)."""
+    pairs = parse_assignments(texts, "--form", metavar="HKL=VALUE", example=example)
+    return [(crystal.parse_face(key), value) for key, value in pairs]
+
+
+#: File types the commands draw (--plot) and export solids to (--export).
+PLOT_SUFFIXES = (".png", ".svg", ".pdf")
+SOLID_SUFFIXES = (".stl", ".obj", ".json")
+
+
+def check_outputs(plot_path: str | None, export_path: str | None) -> None:
+    """Refuse a --plot or --export file of a type that cannot be written, before any work."""
+    from habit.errors import InputError
+
+    if plot_path and Path(plot_path).suffix.lower() not in PLOT_SUFFIXES:
+        raise InputError(f"--plot writes .png, .svg or .pdf; got {plot_path!r}.")
+    if export_path and Path(export_path).suffix.lower() not in SOLID_SUFFIXES:
+        raise InputError(f"--export writes .stl, .obj or .json; got {export_path!r}.")
+
+
+def write_solid(poly: Any, path: str | os.PathLike[str]) -> None:
+    """Write a polyhedron as STL, OBJ or JSON, by the file's suffix."""
+    from habit import io
+
+    writer = {".stl": io.write_stl, ".obj": io.write_obj, ".json": io.write_polyhedron_json}
+    writer[Path(path).suffix.lower()](poly, path)
 
 
 def parse_faces(crystal: Any, texts: tuple[str, ...]) -> list[tuple[int, int, int]]:

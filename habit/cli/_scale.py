@@ -42,7 +42,7 @@ def forms_and_values(
     crystal: Any, form_texts: tuple[str, ...], kind: str | None
 ) -> tuple[list[tuple[int, int, int]], list[float], str]:
     """Forms, their values and what the values mean, from --form options or the crystal."""
-    from habit.cli.wulff import parse_form_options
+    from habit.cli._common import parse_form_options
     from habit.errors import InputError
 
     if form_texts:

@@ -2,24 +2,11 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 import click
 
 from habit.cli._common import json_option
-
-
-def _pairs(values: tuple[str, ...], what: str, cast: type) -> dict[str, object]:
-    from habit.errors import InputError
-
-    out: dict[str, object] = {}
-    for text in values:
-        key, sep, value = text.partition("=")
-        try:
-            if not sep:
-                raise ValueError
-            out[key.strip()] = cast(value)
-        except ValueError:
-            raise InputError(f"{what} takes SYMBOL=VALUE, e.g. Cu=1.28; got {text!r}.") from None
-    return out
 
 
 @click.command("apf")
@@ -54,17 +41,27 @@ def command(
     full and listed, so the number can be judged.
     """
     from habit.apf import atomic_packing_fraction
-    from habit.cli._common import crystal_json, write_json
+    from habit.cli._common import crystal_json, parse_assignments, write_json
     from habit.crystal import load_crystal
     from habit.errors import InputError
 
     xtal = load_crystal(crystal)
     if xtal.structure is None:
         raise InputError(f"{crystal} has no atom positions; give a CIF.")
-    radii = _pairs(radius, "--radius", float) if radius else radius_source
-    cn = _pairs(coordination, "--coordination", int) if coordination else None
-    result = atomic_packing_fraction(xtal.structure, radii=radii, coordination=cn)  # type: ignore[arg-type]
-    sites = [
+    radii: dict[str, float] | str = radius_source
+    if radius:
+        radii = dict(
+            parse_assignments(radius, "--radius", metavar="SYMBOL=VALUE (Å)", example="Cu=1.28")
+        )
+    cn = None
+    if coordination:
+        cn = dict(
+            parse_assignments(
+                coordination, "--coordination", metavar="ION=CN", example="Ca2+=8", cast=int
+            )
+        )
+    result = atomic_packing_fraction(xtal.structure, radii=radii, coordination=cn)
+    sites: list[dict[str, Any]] = [
         {
             "site": i,
             "species": label,
@@ -92,7 +89,9 @@ def command(
             f"({result.fraction * 100:.2f} % of the cell), {result.radius_source} radii, "
             f"cell volume {result.cell_volume:.3f} Å³"
         )
-        click.echo(f"\n{'site':>4}  {'species':<8}{'radius (Å)':>11}{'CN':>4}{'share of cell (%)':>19}")
+        click.echo(
+            f"\n{'site':>4}  {'species':<8}{'radius (Å)':>11}{'CN':>4}{'share of cell (%)':>19}"
+        )
         for s in sites:
             click.echo(
                 f"{s['site']:>4}  {s['species']:<8}{s['radius_A']:>11.4f}{s['coordination']:>4}"

@@ -54,7 +54,7 @@ def draw_and_export(poly: Any, title: str, plot_path: str | None, export_path: s
         figure.suptitle(title)
         save_figure(figure, plot_path)
     if export_path:
-        from habit.cli.wulff import write_solid
+        from habit.cli._common import write_solid
 
         write_solid(poly, export_path)
 
@@ -96,15 +96,20 @@ def command(
     central distance proportional to 1/d_eff. CRYSTAL is a CIF, a crystal TOML file or a
     bundled name; or give --cell with --space-group.
     """
-    from habit.cli._common import crystal_header, crystal_json, resolve_crystal, write_json
-    from habit.cli.wulff import _check_outputs
+    from habit.cli._common import (
+        check_outputs,
+        crystal_header,
+        crystal_json,
+        resolve_crystal,
+        write_json,
+    )
     from habit.errors import InputError
     from habit.morphology import bfdh
 
     crystal, rest = resolve_crystal(args, cell, crystal_class, space_group)
     if rest:
         raise InputError(f"unexpected argument {rest[0]!r}; habit bfdh takes one crystal.")
-    _check_outputs(plot_path, export_path)
+    check_outputs(plot_path, export_path)
     result = bfdh(crystal, max_index, reflection_conditions=not lattice_only)
     report = {"crystal": crystal_json(crystal), **bfdh_report(result)}
     if json_path != "-":

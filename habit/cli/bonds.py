@@ -11,22 +11,12 @@ from habit.cli._common import json_option
 
 def _pair_values(texts: tuple[str, ...], option: str, unit: str) -> dict[str, float]:
     from habit.bonds import parse_pair
-    from habit.errors import InputError
+    from habit.cli._common import parse_assignments
 
-    out: dict[str, float] = {}
-    for text in texts:
-        key, sep, value = text.partition("=")
-        try:
-            if not sep:
-                raise ValueError
-            number = float(value)
-        except ValueError:
-            raise InputError(
-                f"{option} takes A-B=VALUE ({unit}), e.g. {option} Ca-F=2.6; got {text!r}."
-            ) from None
-        a, b = parse_pair(key)
-        out[f"{a}-{b}"] = number
-    return out
+    pairs = parse_assignments(
+        texts, option, metavar=f"A-B=VALUE ({unit})", example=f"{option} Ca-F=2.6"
+    )
+    return {"-".join(parse_pair(key)): value for key, value in pairs}
 
 
 def bonds_report(result: Any) -> dict[str, Any]:
@@ -120,12 +110,17 @@ def command(
     import sys
 
     from habit.bonds import broken_bond_energies, find_bonds
-    from habit.cli._common import crystal_header, crystal_json, progress_bar, write_json
-    from habit.cli.wulff import _check_outputs
+    from habit.cli._common import (
+        check_outputs,
+        crystal_header,
+        crystal_json,
+        progress_bar,
+        write_json,
+    )
     from habit.crystal import load_crystal
     from habit.morphology import form_representatives
 
-    _check_outputs(plot_path, None)
+    check_outputs(plot_path, None)
     xtal = load_crystal(crystal)
     pairs = _pair_values(pair_cutoffs, "--pair-cutoff", "Å") if pair_cutoffs else None
     energies = _pair_values(bond_energies, "--bond-energy", "eV") if bond_energies else None

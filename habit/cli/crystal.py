@@ -51,9 +51,9 @@ def command(
     ]
     sg = crystal.space_group
     if sg is not None:
-        from habit.symmetry import space_group
+        from habit.spacegroups import space_group as lookup_space_group
 
-        standard = space_group(int(sg.number)).symbol
+        standard = lookup_space_group(int(sg.number)).symbol
         if standard != sg.symbol:
             lines.append(
                 f"space group {sg.symbol} is a setting of {standard} (No. {sg.number}); "

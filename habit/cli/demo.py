@@ -26,8 +26,14 @@ def command(out_dir: str) -> None:
     import io as textio
     from pathlib import Path
 
-    from habit.cli._common import atomic_output, crystal_header, crystal_json, write_json
-    from habit.cli.wulff import draw_shape, print_report, shape_report, write_solid
+    from habit.cli._common import (
+        atomic_output,
+        crystal_header,
+        crystal_json,
+        write_json,
+        write_solid,
+    )
+    from habit.cli.wulff import draw_shape, print_report, shape_report
     from habit.crystal import STRUCTURES_DIR, read_crystal_file
     from habit.wulff import wulff_shape
 

@@ -30,13 +30,12 @@ def command(
     about the Wulff point (or the centroid); each vertex of the dual carries the Miller
     indices of the face it came from.
     """
-    from habit.cli._common import write_json
+    from habit.cli._common import check_outputs, write_json, write_solid
     from habit.cli._shapes import describe, resolve_shape
-    from habit.cli.wulff import _check_outputs, write_solid
 
-    _check_outputs(plot_path, export_path)
+    check_outputs(plot_path, export_path)
     poly, what = resolve_shape(shape)
-    result = poly.dual(scale=None if scale == "none" else scale)  # type: ignore[arg-type]
+    result = poly.dual(scale=None if scale == "none" else scale)
     dual = result.polyhedron
     original, reciprocal = describe(poly), describe(dual)
     pairs = []

@@ -34,9 +34,9 @@ def command(
     from habit.packing import densest_double_lattice_packing, densest_lattice_packing
 
     if plot_path:
-        from habit.cli.wulff import _check_outputs
+        from habit.cli._common import check_outputs
 
-        _check_outputs(plot_path, None)
+        check_outputs(plot_path, None)
     poly, what = resolve_shape(shape)
     with progress_bar(starts, "lattice search") as update:
         result = densest_lattice_packing(poly, starts=starts, rng=seed, progress=update)

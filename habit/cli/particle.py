@@ -7,7 +7,7 @@ from typing import Any
 
 import click
 
-from habit.cli._common import json_option
+from habit.cli._common import json_option, parse_form_options
 
 SIZE_UNITS = {"diameter": "Å", "edge": "Å", "volume": "Å³", "atoms": "atoms", "shells": "shells"}
 SIZE_HEADERS = {
@@ -17,22 +17,6 @@ SIZE_HEADERS = {
     "atoms": "target atoms",
     "shells": "shells K",
 }
-
-
-def _parse_forms(crystal: Any, texts: tuple[str, ...]) -> list[tuple[tuple[int, int, int], float]]:
-    from habit.errors import InputError
-
-    out = []
-    for text in texts:
-        key, sep, value = text.partition("=")
-        if not sep:
-            raise InputError(f"--form takes HKL=VALUE, e.g. 111=1.95; got {text!r}.")
-        try:
-            number = float(value)
-        except ValueError:
-            raise InputError(f"the value in --form {text!r} is not a number.") from None
-        out.append((crystal.parse_face(key), number))
-    return out
 
 
 def _parse_series(text: str, kind: str) -> list[float]:
@@ -189,7 +173,7 @@ def command(
     series = _parse_series(series_text, kind) if series_text else None
 
     crystal = load_crystal(crystal_spec)
-    forms = _parse_forms(crystal, form_texts) if form_texts else None
+    forms = parse_form_options(crystal, form_texts, example="111=1.95") if form_texts else None
     planes = crystal_planes(crystal, forms, shells=kind == "shells")
     options: dict[str, Any] = {"centre": centre}
     value = sizes[kind]

@@ -6,29 +6,17 @@ from typing import Any
 
 import click
 
-from habit.cli._common import crystal_options, json_option, kind_options
+from habit.cli._common import check_outputs as _check_outputs
+from habit.cli._common import (
+    crystal_options,
+    json_option,
+    kind_options,
+    parse_form_options,
+    write_solid,
+)
 from habit.cli._substrate import substrate_options
 
 KIND_UNITS = {"energy": "J/m²", "distance": "relative", "rate": "relative"}
-
-
-def parse_form_options(
-    crystal: Any, texts: tuple[str, ...]
-) -> list[tuple[tuple[int, int, int], float]]:
-    """Read ``--form HKL=VALUE`` options against a crystal."""
-    from habit.errors import InputError
-
-    out = []
-    for text in texts:
-        key, sep, value = text.partition("=")
-        if not sep:
-            raise InputError(f"--form takes HKL=VALUE, e.g. 111=1.0; got {text!r}.")
-        try:
-            number = float(value)
-        except ValueError:
-            raise InputError(f"the value in --form {text!r} is not a number.") from None
-        out.append((crystal.parse_face(key), number))
-    return out
 
 
 def shape_report(shape: Any) -> dict[str, Any]:
@@ -197,27 +185,6 @@ def draw_shape(shape: Any, path: str, view: tuple[float, float] | None = None) -
     ax = art.faces.axes
     ax.set_title(f"{shape.crystal.name}\n{shape.shape_name()}", fontsize=9)
     save_figure(ax.figure, path)
-
-
-def write_solid(poly: Any, path: Any) -> None:
-    """Write a polyhedron as STL, OBJ or JSON, by the file's suffix."""
-    from pathlib import Path
-
-    from habit import io
-
-    writer = {".stl": io.write_stl, ".obj": io.write_obj, ".json": io.write_polyhedron_json}
-    writer[Path(path).suffix.lower()](poly, path)
-
-
-def _check_outputs(plot_path: str | None, export_path: str | None) -> None:
-    from pathlib import Path
-
-    from habit.errors import InputError
-
-    if plot_path and Path(plot_path).suffix.lower() not in (".png", ".svg", ".pdf"):
-        raise InputError(f"--plot writes .png, .svg or .pdf; got {plot_path!r}.")
-    if export_path and Path(export_path).suffix.lower() not in (".stl", ".obj", ".json"):
-        raise InputError(f"--export writes .stl, .obj or .json; got {export_path!r}.")
 
 
 def _parse_view(view: str | None) -> tuple[float, float] | None:

@@ -30,8 +30,6 @@ def plot_packing_fraction(result: Any, ax: Any = None, **kwargs: Any) -> list[An
     bars = ax.bar(range(len(labels)), result.site_fractions * 100.0, **kwargs)
     ax.set_xticks(range(len(labels)), labels, rotation=60, ha="right", fontsize=7)
     ax.set_ylabel("share of cell volume (%)")
-    ax.set_title(
-        f"packing fraction {result.fraction * 100:.2f} % ({result.radius_source} radii)"
-    )
+    ax.set_title(f"packing fraction {result.fraction * 100:.2f} % ({result.radius_source} radii)")
     ax.figure.tight_layout()
     return list(bars)
