@@ -135,11 +135,15 @@ def main() -> None:
             # a job big enough to pay for the pool: several maps at once, same shapes
             big = np.tile(energies, (args.parallel_maps, 1))
             name = f"fast x{args.workers}"
-            spent[name] = time_fast(planes, big, args.workers, args.scheduler)[0] * len(big)
-            counts[name] = len(big)
             one = f"fast 1 proc ({args.parallel_maps} maps)"
-            spent[one] = time_fast(planes, big)[0] * len(big)
-            counts[one] = len(big)
+            order = [name, one] if _ % 2 == 0 else [one, name]  # alternate who goes first
+            for label in order:
+                if label == name:
+                    dt = time_fast(planes, big, args.workers, args.scheduler)[0]
+                else:
+                    dt = time_fast(planes, big)[0]
+                spent[label] = dt * len(big)
+                counts[label] = len(big)
         for name in rows:
             rows[name].append(spent[name] / counts[name])
 
@@ -173,6 +177,14 @@ def main() -> None:
         }
         print(f"{name:<26}{med * 1e6:>10.2f}{1 / med:>12.0f}{ratio:>9.1f}x{ratio / cores:>9.1f}x")
     print(f"max relative difference fast vs hull: {worst:.2e}; fallbacks: {n_fallback}")
+    if args.workers > 1:
+        par = report["methods"][f"fast x{args.workers}"]["us_per_shape"]
+        seq = report["methods"][f"fast 1 proc ({args.parallel_maps} maps)"]["us_per_shape"]
+        report["speed_up"] = seq / par
+        print(
+            f"speed-up of the {args.parallel_maps}-map job on {args.workers} workers: "
+            f"{seq / par:.2f}x ({100 * seq / par / args.workers:.0f} % efficiency)"
+        )
     if args.json:
         Path(args.json).write_text(json.dumps(report, indent=2) + "\n")
 

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
@@ -133,14 +133,39 @@ class ShapeBatch:
         ``"intervals"`` or ``"hull"``: how the shapes were computed.
     """
 
-    areas: NDArray[np.float64]
+    face_areas: NDArray[np.float64]
     volume: NDArray[np.float64]
-    present: NDArray[np.bool_]
+    face_present: NDArray[np.bool_]
     form_fractions: NDArray[np.float64]
     forms: NDArray[np.int64]
     edge_lengths: NDArray[np.float64] | None
     fallback: NDArray[np.bool_]
     method: str
+    columns: NDArray[np.int64] | None = None
+    _cache: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
+
+    # For a symmetric plane set the solver keeps one column per family of equivalent
+    # faces (``face_areas``, ``face_present`` are (S, K)) and ``columns`` maps every plane
+    # to its family; the full (S, N) arrays are made on first use and kept.
+    def _expanded(self, name: str, values: NDArray[Any]) -> NDArray[Any]:
+        if self.columns is None:
+            return values
+        if name not in self._cache:
+            full = values[:, self.columns]
+            full.setflags(write=False)
+            self._cache[name] = full
+        out: NDArray[Any] = self._cache[name]
+        return out
+
+    @property
+    def areas(self) -> NDArray[np.float64]:
+        """(S, N) float: area of every face (energy unit squared); 0 for absent faces."""
+        return self._expanded("areas", self.face_areas)
+
+    @property
+    def present(self) -> NDArray[np.bool_]:
+        """(S, N) bool: the face has area above ``tol.area`` times the total area."""
+        return self._expanded("present", self.face_present)
 
     @property
     def n_fallback(self) -> int:
@@ -150,9 +175,19 @@ class ShapeBatch:
     @property
     def form_present(self) -> NDArray[np.bool_]:
         """(S, F) bool: the form has at least one present face."""
-        nf = int(self.forms.max()) + 1
-        counts = self.present.astype(np.int64) @ np.eye(nf, dtype=np.int64)[self.forms]  # (S, F)
-        return counts > 0
+        return self._form_any()
+
+    def _form_any(self) -> NDArray[np.bool_]:
+        nf = self.form_fractions.shape[1]
+        cols = self.forms if self.columns is None else None
+        present = self.face_present
+        if cols is None:  # one column per family: the family's form
+            assert self.columns is not None
+            first = np.unique(self.columns, return_index=True)[1]  # a plane of each family
+            cols = self.forms[first]
+        counts = present.astype(np.int64) @ np.eye(nf, dtype=np.int64)[cols]  # (S, F)
+        out: NDArray[np.bool_] = counts > 0
+        return out
 
 
 def _norm_label(text: str) -> str:
@@ -471,47 +506,67 @@ def solve_shapes(
     if chunk is None:
         # keep the per-chunk bound array near 512 KB: larger blocks fall out of cache
         chunk = int(np.clip(65536 // max(plan.cost, 1), 8, 256))
-    areas = np.empty((nshape, nplanes))
     volume = np.empty(nshape)
     fallback = np.zeros(nshape, dtype=bool)
     ell = np.zeros((nshape, nplanes, nplanes)) if edges else None
+    compact = planes.symmetric
     mode = _execute.choose_mode(scheduler, nshape * _seconds_per_shape(planes, method), workers)
     if mode == "inline":
+        areas = np.empty((nshape, nplanes))
         with _intervals.single_thread_blas():
             _solve_into(plan, g, method, chunk, areas, volume, fallback, ell, progress)
+        rep = areas[:, plan.reps] if compact else None  # (S, F): one face per family
     else:
         n_tasks = max(1, min(nshape // max(chunk, 1), 8 * (workers or os.cpu_count() or 1)))
         bounds = np.linspace(0, nshape, n_tasks + 1).astype(int)
         parts = [slice(int(a), int(b)) for a, b in zip(bounds[:-1], bounds[1:], strict=True)]
-        compact = planes.symmetric
         sent = g[:, plan.reps] if compact else g  # (S, F) or (S, N)
+        # symmetric sets come back as one area per family and are expanded once, below
+        store = np.empty((nshape, len(plan.reps) if compact else nplanes))
         tasks = [(plan, sent[part], method, chunk, edges, compact) for part in parts]
         done = 0
         for i, (a_i, v_i, f_i, e_i) in _execute.run_tasks(
             _solve_task, tasks, mode=mode, workers=workers, scheduler=scheduler
         ):
             part = parts[i]  # contiguous rows: slice assignment, not a fancy-index scatter
-            areas[part] = a_i[:, plan.family] if compact else a_i
+            store[part] = a_i
             volume[part], fallback[part] = v_i, f_i
             if ell is not None:
                 ell[part] = e_i
             done += part.stop - part.start
             if progress is not None:
                 progress(done)
-    np.maximum(areas, 0.0, out=areas)
-    total = areas.sum(axis=1)  # (S,)
-    present = areas > tol.area * total[:, None]
-    # area of each form: add the columns of its faces (F small: one reduction per form)
-    fractions = np.empty((nshape, planes.n_forms))  # (S, F)
-    for f in range(planes.n_forms):
-        fractions[:, f] = areas[:, planes.forms == f].sum(axis=1)
+        rep = store if compact else None
+        areas = store  # replaced by the expansion below when compact
+    columns = None
+    if rep is not None:
+        # every face of a family has its representative's area: keep (S, K), one column
+        # per family; the (S, N) arrays are expanded only when asked for
+        np.maximum(rep, 0.0, out=rep)
+        family_area = rep * plan.family_size  # (S, K)
+        total = family_area.sum(axis=1)  # (S,)
+        areas = np.ascontiguousarray(rep)
+        present = rep > tol.area * total[:, None]  # (S, K)
+        columns = np.asarray(plan.family, dtype=np.int64)
+        fractions = np.zeros((nshape, planes.n_forms))  # (S, forms)
+        for k, r in enumerate(plan.reps):
+            fractions[:, planes.forms[r]] += family_area[:, k]
+    else:
+        np.maximum(areas, 0.0, out=areas)
+        total = areas.sum(axis=1)  # (S,)
+        present = areas > tol.area * total[:, None]
+        fractions = np.empty((nshape, planes.n_forms))  # (S, forms)
+        for f in range(planes.n_forms):  # add the columns of each form's faces
+            fractions[:, f] = areas[:, planes.forms == f].sum(axis=1)
     fractions /= total[:, None]
     out = [areas, volume, present, fractions, fallback]
     if ell is not None:
         out.append(ell)
     for arr in out:
         arr.setflags(write=False)
-    return ShapeBatch(areas, volume, present, fractions, planes.forms, ell, fallback, method)
+    return ShapeBatch(
+        areas, volume, present, fractions, planes.forms, ell, fallback, method, columns
+    )
 
 
 # ---------------------------------------------------------------------------- crystals
