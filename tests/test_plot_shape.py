@@ -124,3 +124,17 @@ def test_draws_into_a_given_axes() -> None:
     # looking along -x: only (100) and the {111} faces with h > 0 face the eye
     visible = {tuple(h) for h in shape().hkl[art.visible].tolist()}
     assert visible == {(1, 0, 0), (1, 1, 1), (1, 1, -1), (1, -1, 1), (1, -1, -1)}
+
+
+def test_thin_faces_can_be_left_unlabelled() -> None:
+    # a cube with tiny {111} corners: with a threshold only the large cube faces keep labels
+    from habit.crystal import Crystal
+    from habit.wulff import wulff_shape
+
+    shape = wulff_shape(Crystal.from_cell(4.0, crystal_class="m-3m"), {"100": 1.0, "111": 1.7})
+    poly = shape.polyhedron
+    every = plot_polyhedron(poly)
+    some = plot_polyhedron(poly, label_min_fraction=0.2)
+    labelled = {t.get_text() for t in some.labels}
+    assert len(some.labels) < len(every.labels)
+    assert labelled and all(text.count("1") == 1 for text in labelled)  # only (100)-type faces

@@ -49,7 +49,7 @@ def draw_and_export(poly: Any, title: str, plot_path: str | None, export_path: s
     if plot_path:
         from habit.plot.shape import plot_polyhedron, save_figure
 
-        artists = plot_polyhedron(poly)
+        artists = plot_polyhedron(poly, label_min_fraction=0.12)
         figure = artists.faces.axes.figure
         figure.suptitle(title)
         save_figure(figure, plot_path)

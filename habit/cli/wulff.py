@@ -181,7 +181,9 @@ def draw_shape(shape: Any, path: str, view: tuple[float, float] | None = None) -
     from habit.plot.shape import plot_polyhedron
 
     azim, elev = view if view is not None else (None, None)
-    art = plot_polyhedron(shape.polyhedron, azimuth_deg=azim, elevation_deg=elev)
+    art = plot_polyhedron(
+        shape.polyhedron, azimuth_deg=azim, elevation_deg=elev, label_min_fraction=0.12
+    )
     ax = art.faces.axes
     ax.set_title(f"{shape.crystal.name}\n{shape.shape_name()}", fontsize=9)
     save_figure(ax.figure, path)

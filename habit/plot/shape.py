@@ -168,6 +168,7 @@ def plot_polyhedron(
     hidden_edges: bool = False,
     edge_colour: str = "#2b2b2b",
     label_size: float = 8.0,
+    label_min_fraction: float = 0.0,
     **kwargs: Any,
 ) -> ShapeArtists:
     """Draw a shaded polyhedron, faces coloured by form and labelled.
@@ -196,6 +197,9 @@ def plot_polyhedron(
         Edge colour.
     label_size : float
         Font size of face labels, points.
+    label_min_fraction : float
+        Leave unlabelled the visible faces whose apparent (projected) area is below this
+        fraction of the largest one, so labels of thin faces do not pile up. Default 0.
     **kwargs
         Passed to the face ``Poly3DCollection``.
 
@@ -263,7 +267,9 @@ def plot_polyhedron(
         if text:
             cen = poly.face_centroids()
             lift = 0.02 * poly.circumradius
-            for f in np.flatnonzero(visible):
+            apparent = poly.face_areas * np.clip(poly.normals @ eye, 0.0, None)  # (F,)
+            big = apparent >= label_min_fraction * apparent.max()
+            for f in np.flatnonzero(visible & big):
                 p = cen[f] + lift * poly.normals[f]
                 texts.append(
                     ax.text(
