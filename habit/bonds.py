@@ -53,6 +53,7 @@ from typing import Any
 
 import numpy as np
 
+from habit._arrays import readonly as _readonly
 from habit._typing import FloatArray, IntArray
 from habit.crystal import Crystal
 from habit.errors import InputError
@@ -75,12 +76,6 @@ EV_PER_A2_IN_J_PER_M2 = 1.602176634e-19 / 1e-20
 
 #: Atoms whose heights along the normal differ by less than this (Å) form one layer.
 LAYER_TOL = 1e-4
-
-
-def _readonly(arr: Any, dtype: Any = float) -> Any:
-    out = np.array(arr, dtype=dtype)
-    out.setflags(write=False)
-    return out
 
 
 def parse_pair(key: Any) -> tuple[str, str]:

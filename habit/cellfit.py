@@ -25,6 +25,7 @@ from typing import Any
 
 import numpy as np
 
+from habit._arrays import readonly as _readonly
 from habit._typing import ArrayLike, BoolArray, FloatArray, IntArray
 from habit.errors import IndexingError, InputError, UnknownSymbolError
 from habit.geometry import cell_to_lattice, lattice_to_cell, reciprocal_lattice
@@ -39,7 +40,6 @@ from habit.indexing import (
     _index,
     _normal_sets,
     _normals,
-    _readonly,
     _simplicity,
     _unit,
     _uses_hex_axes,

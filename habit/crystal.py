@@ -24,6 +24,7 @@ from typing import Any
 import numpy as np
 
 from habit import geometry
+from habit._arrays import readonly as _readonly
 from habit._typing import ArrayLike, BoolArray, FloatArray, IntArray
 from habit.errors import CellError, FileFormatError, InputError, UnknownSymbolError
 from habit.tolerances import DEFAULT, Tolerances
@@ -81,12 +82,6 @@ class FormValues:
     def as_dict(self) -> dict[tuple[int, int, int], float]:
         """The values keyed by (h, k, l)."""
         return dict(zip(self.hkl, self.values, strict=True))
-
-
-def _readonly(arr: ArrayLike) -> FloatArray:
-    out = np.array(arr, dtype=float)
-    out.setflags(write=False)
-    return out
 
 
 def _is_rhombohedral(cell: tuple[float, ...], tol: Tolerances) -> bool:
@@ -459,7 +454,8 @@ class Crystal:
         kinds: dict[str, int] = {}
         numbers = [kinds.setdefault(str(sp), len(kinds) + 1) for sp in species]
         dataset = spglib.get_symmetry_dataset(
-            (lattice, frac, numbers), symprec=symprec  # type: ignore[arg-type]
+            (lattice, frac, numbers),  # type: ignore[arg-type]
+            symprec=symprec,
         )
         if dataset is None:
             raise FileFormatError(
@@ -632,7 +628,8 @@ class Crystal:
         kinds: dict[str, int] = {}
         numbers = [kinds.setdefault(str(s.species), len(kinds) + 1) for s in self.structure]
         ds = spglib.get_symmetry_dataset(
-            (np.array(self.lattice), frac, numbers), symprec=symprec  # type: ignore[arg-type]
+            (np.array(self.lattice), frac, numbers),  # type: ignore[arg-type]
+            symprec=symprec,
         )
         if ds is None:
             raise InputError("spglib could not find the symmetry of this structure.")

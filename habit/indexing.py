@@ -64,6 +64,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from habit._arrays import readonly as _readonly
 from habit._typing import ArrayLike, BoolArray, FloatArray, IntArray
 from habit.errors import CellError, IndexingError, InputError, UnknownSymbolError
 from habit.geometry import cell_to_lattice, reciprocal_lattice
@@ -113,12 +114,6 @@ SYSTEMS: tuple[str, ...] = (
 )
 _MIN_PAIR_ANGLE = math.radians(12.0)
 _HEX_FAMILY = ("hexagonal", "trigonal")
-
-
-def _readonly(a: Any, dtype: Any = float) -> Any:
-    arr = np.array(a, dtype=dtype)
-    arr.setflags(write=False)
-    return arr
 
 
 # ----------------------------------------------------------------------------- cells

@@ -29,6 +29,7 @@ from typing import Any
 
 import numpy as np
 
+from habit._arrays import readonly as _readonly
 from habit._typing import ArrayLike, FloatArray, IntArray
 from habit.errors import FileFormatError, InputError
 from habit.stereo import phi_rho_to_vectors
@@ -45,12 +46,6 @@ __all__ = [
 KINDS: tuple[str, ...] = ("two-circle", "normals", "interfacial-angles")
 
 _UNIT_TOL = 1e-3  # |normal| must be 1 within this, unless normalize=True
-
-
-def _readonly(a: Any, dtype: Any = float) -> Any:
-    arr = np.array(a, dtype=dtype)
-    arr.setflags(write=False)
-    return arr
 
 
 @dataclass(frozen=True, slots=True, eq=False)  # holds arrays: compared by identity

@@ -39,6 +39,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from habit import lattice_packing as _lp
+from habit._arrays import readonly as _readonly
 from habit._convex import hull_facets
 from habit._typing import FloatArray, IntArray
 from habit.errors import InputError, PackingError
@@ -177,12 +178,6 @@ class PackingCertificate:
             tight = f"; {'tight' if self.tight else 'NOT tight'} for {self.configuration}"
         enum = f"; {self.enumeration}" if self.enumeration else ""
         return f"{why}{tight}{enum}; {adm} (min gauge {self.min_gauge:.12f})"
-
-
-def _readonly(a: ArrayLike, dtype: Any = np.float64) -> Any:
-    arr = np.array(a, dtype=dtype)
-    arr.setflags(write=False)
-    return arr
 
 
 @dataclass(frozen=True, slots=True)

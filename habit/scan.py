@@ -74,6 +74,7 @@ from typing import Any
 
 import numpy as np
 
+from habit._arrays import readonly as _readonly
 from habit._typing import ArrayLike, FloatArray, IntArray
 from habit.errors import FileFormatError, InputError, MissingDependencyError
 from habit.measurements import Measurements, measurements_from_arrays
@@ -98,12 +99,6 @@ MESH_SUFFIXES: tuple[str, ...] = (".stl", ".obj", ".ply")
 _SMOOTHING_PASSES = 4  # bilateral normal-filter passes before segmentation, at least
 _MAX_PASSES = 40  # and at most
 _SETTLED = 0.2  # stop when the median neighbour angle is below this x the segmentation angle
-
-
-def _readonly(a: Any, dtype: Any = float) -> Any:
-    arr = np.array(a, dtype=dtype)
-    arr.setflags(write=False)
-    return arr
 
 
 def _trimesh() -> Any:

@@ -24,13 +24,13 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike
 
+from habit._arrays import readonly as _readonly
 from habit._typing import BoolArray, FloatArray, IntArray
 from habit.errors import InputError, InvalidMillerIndexError, UnknownSymbolError
 from habit.symmetry import (
     _ABS_TOL,
     PointGroup,
     _as_operations,
-    _readonly,
     point_group_from_operations,
 )
 

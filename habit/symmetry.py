@@ -45,6 +45,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 from numpy.typing import ArrayLike
 
+from habit._arrays import readonly as _readonly
 from habit._typing import IntArray
 from habit.errors import CellError, InputError, InvalidMillerIndexError, UnknownSymbolError
 
@@ -78,12 +79,6 @@ __all__ = [
 ]
 
 _ABS_TOL = 1e-6  # integrality / phase tolerance
-
-
-def _readonly(a: ArrayLike, dtype: Any) -> Any:
-    arr = np.array(a, dtype=dtype)
-    arr.setflags(write=False)
-    return arr
 
 
 UNIQUE_AXIS_C = _readonly([[0, 1, 0], [0, 0, 1], [1, 0, 0]], np.int64)
